@@ -1,0 +1,31 @@
+"""Give every request a UUID, return it as ``X-Request-ID`` and expose it to the write path."""
+
+from __future__ import annotations
+
+import contextvars
+import re
+import uuid
+
+_request_id: contextvars.ContextVar[str] = contextvars.ContextVar("request_id", default="")
+_VALID = re.compile(r"^[A-Za-z0-9._:-]{1,64}$")
+
+
+def current_request_id() -> str:
+    return _request_id.get()
+
+
+class RequestIdMiddleware:
+    def __init__(self, get_response):
+        self.get_response = get_response
+
+    def __call__(self, request):
+        incoming = request.headers.get("X-Request-ID", "")
+        request_id = incoming if _VALID.match(incoming or "") else str(uuid.uuid4())
+        token = _request_id.set(request_id)
+        request.request_id = request_id
+        try:
+            response = self.get_response(request)
+        finally:
+            _request_id.reset(token)
+        response["X-Request-ID"] = request_id
+        return response

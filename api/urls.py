@@ -1,0 +1,30 @@
+"""``/api/v1/``: the REST API, nested per project, with its OpenAPI schema and docs."""
+
+from django.urls import include, path
+from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
+from rest_framework.routers import DefaultRouter, SimpleRouter
+
+from api.views import record, tenancy
+
+root = DefaultRouter()
+root.register("organisations", tenancy.OrganisationViewSet, basename="organisation")
+root.register("projects", tenancy.ProjectViewSet, basename="project")
+root.register("tokens", tenancy.TokenViewSet, basename="token")
+
+nested = SimpleRouter()
+nested.register("contexts", record.ContextViewSet, basename="context")
+nested.register("relationships", record.RelationshipViewSet, basename="relationship")
+nested.register("changes", record.ChangeViewSet, basename="change")
+nested.register("revisions", record.RevisionViewSet, basename="revision")
+nested.register("sync", record.SyncViewSet, basename="sync")
+
+#: Other apps add their project-nested routes here (see chronology's api modules).
+project_urlpatterns = nested.urls
+
+urlpatterns = [
+    path("v1/", include(root.urls)),
+    path("v1/projects/<str:project>/", include(project_urlpatterns)),
+    path("v1/schema/", SpectacularAPIView.as_view(), name="schema"),
+    path("v1/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
+    path("auth/", include("rest_framework.urls")),
+]

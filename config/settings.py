@@ -1,0 +1,168 @@
+"""Django settings for Tellstack.
+
+Every setting is read from the environment with a working default:
+
+* no ``DATABASE_URL``: an embedded SQLite file under ``TELLSTACK_DATA_DIR``
+  (default ``./data``);
+* no ``CELERY_BROKER_URL``: Celery runs tasks eagerly, in-process;
+* ``DEBUG`` defaults to on for the embedded set-up; with it off,
+  ``SECRET_KEY`` and ``ALLOWED_HOSTS`` must be given.
+"""
+
+from pathlib import Path
+
+import dj_database_url
+
+from .env import env_bool, env_int, env_list, env_required, env_str
+
+BASE_DIR = Path(__file__).resolve().parent.parent
+DATA_DIR = Path(env_str("TELLSTACK_DATA_DIR", str(BASE_DIR / "data"))).resolve()
+
+DEBUG = env_bool("DEBUG", True)
+if DEBUG:
+    SECRET_KEY = env_str("SECRET_KEY", "insecure-development-key-change-me")
+    ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", ["localhost", "127.0.0.1", "[::1]", "testserver"])
+else:
+    SECRET_KEY = env_required("SECRET_KEY")
+    ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", [])
+    if not ALLOWED_HOSTS:
+        env_required("ALLOWED_HOSTS")
+
+INSTALLED_APPS = [
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "rest_framework",
+    "django_filters",
+    "drf_spectacular",
+    "projects",
+    "chronology",
+    "api",
+]
+
+MIDDLEWARE = [
+    "api.middleware.RequestIdMiddleware",
+    "django.middleware.security.SecurityMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+]
+
+ROOT_URLCONF = "config.urls"
+WSGI_APPLICATION = "config.wsgi.application"
+ASGI_APPLICATION = "config.asgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+            ],
+        },
+    },
+]
+
+
+def _database() -> dict:
+    url = env_str("DATABASE_URL")
+    if url:
+        config = dj_database_url.parse(url, conn_max_age=env_int("DATABASE_CONN_MAX_AGE", 60))
+    else:
+        DATA_DIR.mkdir(parents=True, exist_ok=True)
+        config = {
+            "ENGINE": "django.db.backends.sqlite3",
+            "NAME": str(DATA_DIR / "tellstack.sqlite3"),
+            # Writers take the lock when the transaction starts, so the record's
+            # read-check-write sequence is serialised as on PostgreSQL.
+            "OPTIONS": {"transaction_mode": "IMMEDIATE", "timeout": 30},
+        }
+    test_name = env_str("TELLSTACK_TEST_DB_NAME")
+    if test_name:
+        config["TEST"] = {"NAME": test_name}
+    return config
+
+
+DATABASES = {"default": _database()}
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+AUTH_PASSWORD_VALIDATORS = [
+    {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator"},
+    {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
+]
+
+LANGUAGE_CODE = "en-gb"
+TIME_ZONE = "UTC"
+USE_I18N = True
+USE_TZ = True
+
+STATIC_URL = "static/"
+STATIC_ROOT = DATA_DIR / "static"
+MEDIA_ROOT = Path(env_str("TELLSTACK_MEDIA_DIR", str(DATA_DIR / "media")))
+MEDIA_URL = "media/"
+
+REST_FRAMEWORK = {
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "api.authentication.DeviceTokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_PAGINATION_CLASS": "api.pagination.StablePagination",
+    "PAGE_SIZE": 100,
+    "DEFAULT_FILTER_BACKENDS": ["django_filters.rest_framework.DjangoFilterBackend"],
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "EXCEPTION_HANDLER": "api.errors.exception_handler",
+    "DEFAULT_THROTTLE_CLASSES": [
+        "rest_framework.throttling.UserRateThrottle",
+        "rest_framework.throttling.AnonRateThrottle",
+    ],
+    "DEFAULT_THROTTLE_RATES": {
+        "user": env_str("TELLSTACK_THROTTLE_USER", "100000/hour"),
+        "anon": env_str("TELLSTACK_THROTTLE_ANON", "100/hour"),
+    },
+    "TEST_REQUEST_DEFAULT_FORMAT": "json",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "Tellstack API",
+    "DESCRIPTION": (
+        "The stratigraphic record of many excavations, its interpretations and "
+        "Bayesian chronological models. Dates from a model depend on its prior "
+        "assumptions and the calibration curve used; they need review by a "
+        "qualified specialist before they are relied on."
+    ),
+    "VERSION": "1.0.0",
+    "SERVE_INCLUDE_SCHEMA": False,
+    "COMPONENT_SPLIT_REQUEST": True,
+}
+
+CACHES = {"default": {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}}
+
+# Celery: no broker means eager, in-process tasks.
+CELERY_BROKER_URL = env_str("CELERY_BROKER_URL")
+CELERY_TASK_ALWAYS_EAGER = CELERY_BROKER_URL is None
+CELERY_TASK_EAGER_PROPAGATES = True
+CELERY_TASK_ACKS_LATE = True
+CELERY_TASK_REJECT_ON_WORKER_LOST = True
+CELERY_WORKER_PREFETCH_MULTIPLIER = 1
+CELERY_TASK_SERIALIZER = "json"
+CELERY_RESULT_BACKEND = None
+CELERY_TASK_IGNORE_RESULT = True
+CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
+
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "root": {"handlers": ["console"], "level": env_str("LOG_LEVEL", "WARNING")},
+}

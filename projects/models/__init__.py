@@ -1,0 +1,24 @@
+"""Tenancy (organisations, roles, projects), device tokens and the field record."""
+
+from .log import ChangeLogEntry, Revision
+from .record import Context, RecordState, Relationship
+from .tenancy import Membership, Organisation, Project, ProjectRole, Role
+from .tokens import ApiToken
+from .idempotency import IdempotencyRecord
+from .sync import SyncBatch
+
+__all__ = [
+    "ApiToken",
+    "ChangeLogEntry",
+    "Context",
+    "IdempotencyRecord",
+    "Membership",
+    "Organisation",
+    "Project",
+    "ProjectRole",
+    "RecordState",
+    "Relationship",
+    "Revision",
+    "Role",
+    "SyncBatch",
+]

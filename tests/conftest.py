@@ -1,0 +1,97 @@
+"""Shared fixtures: the demo organisations, users per role, token clients.
+
+Test data is built through the public write path (``projects.record.writes``)
+or the API, never by writing record tables directly.
+"""
+
+from __future__ import annotations
+
+import pytest
+from django.contrib.auth import get_user_model
+from rest_framework.test import APIClient
+
+from projects.models import ApiToken, Membership, Organisation, Project, Role
+from projects.record import order_cache
+from projects.record.changes import Actor
+
+ROLES = [Role.VIEWER, Role.RECORDER, Role.ANALYST, Role.MANAGER]
+
+
+@pytest.fixture(autouse=True)
+def _fresh_order_cache():
+    order_cache.forget()
+    yield
+    order_cache.forget()
+
+
+@pytest.fixture
+def org(db):
+    return Organisation.objects.create(slug="northfold", name="Northfold Field Archaeology")
+
+
+@pytest.fixture
+def other_org(db):
+    return Organisation.objects.create(slug="quillmoor", name="Quillmoor Heritage Ltd")
+
+
+def _user(org, name, role):
+    user = get_user_model().objects.create_user(username=name, password="pw-" + name)
+    Membership.objects.create(user=user, organisation=org, role=role)
+    return user
+
+
+@pytest.fixture
+def users(org):
+    """One user per role in the demo organisation."""
+    return {
+        Role.VIEWER: _user(org, "eve.viewer", Role.VIEWER),
+        Role.RECORDER: _user(org, "ada.recorder", Role.RECORDER),
+        Role.ANALYST: _user(org, "cleo.analyst", Role.ANALYST),
+        Role.MANAGER: _user(org, "dan.manager", Role.MANAGER),
+    }
+
+
+@pytest.fixture
+def recorder(users):
+    return users[Role.RECORDER]
+
+
+@pytest.fixture
+def project(org):
+    return Project.objects.create(organisation=org, code="VML24", name="Vellmarsh Lane")
+
+
+@pytest.fixture
+def other_project(other_org):
+    return Project.objects.create(organisation=other_org, code="QHX01", name="Quillmoor evaluation")
+
+
+@pytest.fixture
+def outsider(other_org):
+    return _user(other_org, "quill.recorder", Role.MANAGER)
+
+
+@pytest.fixture
+def actor(recorder):
+    return Actor(user=recorder, device="test")
+
+
+def token_client(user, name="tablet") -> APIClient:
+    _token, key = ApiToken.issue(user, name)
+    client = APIClient()
+    client.credentials(HTTP_AUTHORIZATION=f"Token {key}")
+    return client
+
+
+@pytest.fixture
+def client_for(users):
+    def make(role, name="tablet"):
+        return token_client(users[role], name)
+
+    return make
+
+
+@pytest.fixture
+def api(client_for):
+    """A recorder's token client."""
+    return client_for(Role.RECORDER)
