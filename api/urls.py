@@ -4,7 +4,7 @@ from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 from rest_framework.routers import DefaultRouter, SimpleRouter
 
-from api.views import record, tenancy
+from api.views import health, record, tenancy
 
 root = DefaultRouter()
 root.register("organisations", tenancy.OrganisationViewSet, basename="organisation")
@@ -24,6 +24,7 @@ project_urlpatterns = nested.urls
 urlpatterns = [
     path("v1/", include(root.urls)),
     path("v1/projects/<str:project>/", include(project_urlpatterns)),
+    path("v1/health/", health.health, name="health"),
     path("v1/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("v1/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
     path("auth/", include("rest_framework.urls")),

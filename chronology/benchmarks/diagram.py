@@ -17,6 +17,7 @@ import subprocess
 import time
 
 import networkx as nx
+import scipy.optimize  # noqa: F401  (imported here so a one-off import is not timed)
 
 from chronology.engine.diagram import DiagramEdge, DiagramNode, count_crossings, layout_diagram
 from chronology.engine.record_data import EQUALITY_TYPES, IDENTITY_TYPES

@@ -236,6 +236,27 @@ class _Graph:
         self.calls += 1
         return self.closure(mask, extra).ok
 
+    def oracle(self, universe: Sequence[int], extra: Sequence[tuple[int, int, bool]] = ()) -> "_Oracle":
+        """Consistency oracle restricted to the endpoints of ``universe``.
+
+        Base reach among any set of endpoints is already transitive, so when
+        only these items can be accepted, no other endpoint is needed.
+        """
+        used = sorted({x for i in universe for e in self.item_edges[i] for x in e[:2]}
+                      | {x for e in extra for x in e[:2]})
+        sub = {x: n for n, x in enumerate(used)}
+
+        def shrink(row: int) -> int:
+            out = 0
+            for x, n in sub.items():
+                if row >> x & 1:
+                    out |= 1 << n
+            return out
+
+        base = _Closure([shrink(self.base.reach[x]) for x in used], [shrink(self.base.strict[x]) for x in used])
+        edges = {i: [(sub[u], sub[v], st) for u, v, st in self.item_edges[i]] for i in universe}
+        return _Oracle(self, base, edges, [(sub[u], sub[v], st) for u, v, st in extra], list(universe))
+
     def full_closure(self) -> _Closure:
         """Reachability with every item accepted (consistency ignored)."""
         cl = self.base.copy()
@@ -243,6 +264,52 @@ class _Graph:
             for u, v, s in edges:
                 cl.add_edge(u, v, s)
         return cl
+
+
+class _Oracle:
+    """Monotone consistency test on a restricted endpoint graph."""
+
+    def __init__(self, graph: _Graph, base: _Closure, edges: dict, extra: list, universe: list[int]):
+        self.graph = graph
+        self.base = base
+        self.edges = edges
+        self.universe = universe
+        start = base.copy()
+        for u, v, st in extra:
+            start.add_edge(u, v, st)
+        self.start = start
+
+    def _add(self, cl: _Closure, i: int) -> bool:
+        for u, v, st in self.edges[i]:
+            if not cl.add_edge(u, v, st):
+                return False
+        return cl.ok
+
+    def closure(self, mask: int, with_extra: bool = True) -> _Closure:
+        cl = (self.start if with_extra else self.base).copy()
+        m = mask
+        while m and cl.ok:
+            low = m & -m
+            self._add(cl, low.bit_length() - 1)
+            m ^= low
+        return cl
+
+    def good(self, mask: int) -> bool:
+        self.graph.calls += 1
+        return self.closure(mask).ok
+
+    def grow(self, mask: int) -> int:
+        """A maximal good superset of the good set ``mask``, greedily in universe order."""
+        cl = self.closure(mask)
+        for i in self.universe:
+            if mask >> i & 1:
+                continue
+            trial = cl.copy()
+            self.graph.calls += 1
+            if self._add(trial, i):
+                cl = trial
+                mask |= 1 << i
+        return mask
 
 
 def _blocks(graph: _Graph, k: int) -> list[list[int]]:
@@ -292,6 +359,9 @@ class _Run:
         self.deadline = None if time_budget is None else self.start + time_budget
         self.progress = progress
         self.cancel = cancel
+
+    def expired(self) -> bool:
+        return self.deadline is not None and time.perf_counter() > self.deadline
 
     def check(self) -> None:
         if self.cancel is not None and self.cancel():
@@ -431,9 +501,12 @@ def _block_conflicts(graph: _Graph, block: list[int], max_k_exact: int, run: _Ru
         i = block[0]
         return ([1 << i] if not graph.consistent(1 << i) else []), True
     if len(block) > max_k_exact:
-        return small_bad_sets(block, graph.consistent, 2), False
+        return small_bad_sets(block, graph.oracle(block).good, 2), False
+    oracle = graph.oracle(block)
+    if run.expired():
+        return small_bad_sets(block, oracle.good, 1), False
     try:
-        bad, _ = dualize(block, graph.consistent, deadline=run.deadline, check=run.check)
+        bad, _ = dualize(block, oracle.good, grow=oracle.grow, deadline=run.deadline, check=run.check)
         return bad, True
     except _BudgetExceeded as stop:
         return list(stop.args[0].bad), False
@@ -452,22 +525,23 @@ def _implicants(graph, items, i, forced_out, full, max_k_exact, run) -> tuple[li
             if any(full.reaches(u, t) and full.reaches(h, v) for t, h, _ in graph.item_edges[j]):
                 cand.append(j)
 
-        def good(mask, _probe=probe):
-            return graph.consistent(mask, (_probe,))
-
-        if not good(0):
+        oracle = graph.oracle(cand, (probe,))
+        if not oracle.good(0):
             per_direction.append([0])
             continue
-        if len(cand) > max_k_exact:
-            bad, ok = small_bad_sets(cand, good, 2), False
+        if run.expired():
+            # Missing implicants only over-count distinct orders.
+            bad, ok = [], False
+        elif len(cand) > max_k_exact:
+            bad, ok = small_bad_sets(cand, oracle.good, 2), False
         else:
             try:
-                bad, _ = dualize(cand, good, deadline=run.deadline, check=run.check)
+                bad, _ = dualize(cand, oracle.good, grow=oracle.grow, deadline=run.deadline, check=run.check)
                 ok = True
             except _BudgetExceeded as stop:
                 bad, ok = list(stop.args[0].bad), False
         exact = exact and ok
-        per_direction.append([t for t in bad if graph.consistent(t)])
+        per_direction.append([t for t in bad if oracle.closure(t, with_extra=False).ok])
     combined = [0]
     for options in per_direction:
         combined = [c | t for c in combined for t in options]

@@ -55,13 +55,16 @@ def dualize(
     universe: list[int],
     good: Callable[[int], bool],
     *,
+    grow: Callable[[int], int] | None = None,
     deadline: float | None = None,
     check: Callable[[], None] | None = None,
 ) -> tuple[list[int], list[int]]:
     """Minimal bad sets and maximal good sets of a down-closed family.
 
     ``universe`` lists item positions; ``good(mask)`` is the monotone oracle
-    (good sets closed under subsets).  Raises :class:`_BudgetExceeded` after
+    (good sets closed under subsets); ``grow(mask)``, when given, returns a
+    maximal good superset of a good ``mask`` (an incremental oracle does this
+    faster than repeated ``good`` calls).  Raises :class:`_BudgetExceeded` after
     ``deadline`` (a ``time.perf_counter`` value); ``check`` is called once per
     round and may raise to cancel.  The bad sets found before the budget ran
     out are each verified minimal, so a partial answer is still sound.
@@ -86,11 +89,14 @@ def dualize(
             bad.add(cand)
             bad_order.append(cand)
             continue
-        grown = cand
-        for i in universe:
-            b = 1 << i
-            if not grown & b and good(grown | b):
-                grown |= b
+        if grow is not None:
+            grown = grow(cand)
+        else:
+            grown = cand
+            for i in universe:
+                b = 1 << i
+                if not grown & b and good(grown | b):
+                    grown |= b
         maximal.append(grown)
         transversals = _berge_add(transversals, full & ~grown)
 

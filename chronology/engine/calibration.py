@@ -63,6 +63,7 @@ __all__ = [
 
 _LOG_2PI = math.log(2.0 * math.pi)
 _BLOCK = 64
+_GROUP = 16
 _CELLS_PER_CHUNK = 1 << 20
 
 
@@ -111,12 +112,19 @@ class CurveOnGrid:
 
 
 def _block_envelopes(mu: np.ndarray, sd: np.ndarray):
-    n = mu.size
-    nb = -(-n // _BLOCK)
-    pad = nb * _BLOCK - n
-    mu_p = np.pad(mu, (0, pad), mode="edge").reshape(nb, _BLOCK)
-    sd_p = np.pad(sd, (0, pad), mode="edge").reshape(nb, _BLOCK)
-    return mu_p.min(axis=1), mu_p.max(axis=1), sd_p.max(axis=1)
+    """Per-block (min μ, max μ, max σc) for blocks of ``_BLOCK`` cells and of
+    ``_BLOCK * _GROUP`` cells; edge padding repeats real values, so bounds hold."""
+    fine = _envelope(mu, mu, sd, _BLOCK)
+    coarse = _envelope(fine[0], fine[1], fine[2], _GROUP)
+    return fine, coarse
+
+
+def _envelope(low, high, sd, size):
+    nb = -(-low.size // size)
+    pad = (0, nb * size - low.size)
+    return (np.pad(low, pad, mode="edge").reshape(nb, size).min(axis=1),
+            np.pad(high, pad, mode="edge").reshape(nb, size).max(axis=1),
+            np.pad(sd, pad, mode="edge").reshape(nb, size).max(axis=1))
 
 
 def curve_on_grid(curve: Curve, grid: CalendarGrid | None = None, step: float = 1.0) -> CurveOnGrid:
@@ -325,8 +333,11 @@ def calibrate_many(cras, sigmas, curve: CurveOnGrid, *, offset: ReservoirOffset 
 
     Notes
     -----
-    Cost is ``O(m · n / 64)`` for the windows plus ``O(Σ w log w)`` for
-    the densities and HPD ranges, ``w`` being window lengths.
+    Windows come from per-block envelopes of the curve (min and max of
+    ``μ``, max of ``σ_c``), tested first on blocks of 1024 cells, then on
+    blocks of 64 inside the coarse range: about ``O(m · (n / 1024 + w / 64))``.
+    The densities and HPD ranges cost ``O(Σ w log w)``, ``w`` being window
+    lengths; temporaries are held to about a million cells per chunk.
 
     References
     ----------
@@ -347,11 +358,7 @@ def calibrate_many(cras, sigmas, curve: CurveOnGrid, *, offset: ReservoirOffset 
     lo, hi = _windows(y, s, curve, k)
     outside = np.flatnonzero(hi < lo)
     if outside.size and on_outside == "raise":
-        raise CalibrationError(
-            f"{outside.size} determination(s) lie outside the range of curve {curve.name!r}",
-            code="outside-curve",
-            details={"indices": outside.tolist(), "labels": [labels[i] for i in outside],
-                     "curve": curve.name})
+        raise _outside_error(outside.tolist(), labels, curve)
     results: list[CalibratedDate | None] = [None] * m
     inside = np.flatnonzero(hi >= lo)
     order = inside[np.argsort((hi - lo)[inside], kind="stable")]
@@ -366,33 +373,57 @@ def calibrate_many(cras, sigmas, curve: CurveOnGrid, *, offset: ReservoirOffset 
         missed += _calibrate_chunk(order[start:stop], y, s, lo, hi, curve, k, masses, labels, results)
         start = stop
     if missed and on_outside == "raise":
-        missed.sort()
-        raise CalibrationError(
-            f"{len(missed)} determination(s) lie outside the range of curve {curve.name!r}",
-            code="outside-curve",
-            details={"indices": missed, "labels": [labels[i] for i in missed],
-                     "curve": curve.name})
+        raise _outside_error(sorted(missed), labels, curve)
     return results
 
 
+def _outside_error(indices: list[int], labels, curve: CurveOnGrid) -> CalibrationError:
+    return CalibrationError(
+        f"{len(indices)} determination(s) lie outside the range of curve {curve.name!r}",
+        code="outside-curve",
+        details={"indices": indices, "labels": [labels[i] for i in indices],
+                 "curve": curve.name})
+
+
+def _hits(y, s, mu_min, mu_max, sd_max, k):
+    # σc <= the block's largest σc, so this test keeps every cell that matters.
+    reach = k * np.sqrt(s * s + sd_max * sd_max)
+    return (y - reach <= mu_max) & (y + reach >= mu_min)
+
+
+def _first_last(hit):
+    return (hit.any(axis=1), np.argmax(hit, axis=1),
+            hit.shape[1] - 1 - np.argmax(hit[:, ::-1], axis=1))
+
+
 def _windows(y, s, curve: CurveOnGrid, k: float):
-    """Inclusive grid index windows; ``hi < lo`` where the curve is never met."""
-    mu_min, mu_max, sd_max = curve._blocks
+    """Inclusive grid index windows; ``hi < lo`` where the curve is never met.
+
+    Two passes: blocks of ``_BLOCK * _GROUP`` cells first, then the
+    ``_BLOCK``-cell blocks inside the coarse range only.
+    """
+    fine, coarse = curve._blocks
     n = curve.grid.n
+    nb = fine[0].size
     m = y.size
     lo = np.zeros(m, dtype=np.int64)
     hi = np.full(m, -1, dtype=np.int64)
-    rows_per_pass = max(1, (1 << 22) // mu_min.size)
+    rows_per_pass = 4096
     for a in range(0, m, rows_per_pass):
         b = min(m, a + rows_per_pass)
-        # sqrt(σ² + σc²) <= σ + σc, so this block test keeps every cell that matters.
-        reach = k * (s[a:b, None] + sd_max[None, :])
-        hit = (y[a:b, None] - reach <= mu_max[None, :]) & (y[a:b, None] + reach >= mu_min[None, :])
-        any_hit = hit.any(axis=1)
-        first = np.argmax(hit, axis=1)
-        last = hit.shape[1] - 1 - np.argmax(hit[:, ::-1], axis=1)
-        lo[a:b] = np.where(any_hit, first * _BLOCK, 0)
-        hi[a:b] = np.where(any_hit, np.minimum((last + 1) * _BLOCK - 1, n - 1), -1)
+        ya, sa = y[a:b, None], s[a:b, None]
+        c_any, c_first, c_last = _first_last(_hits(ya, sa, *(e[None, :] for e in coarse), k))
+        start = c_first * _GROUP
+        stop = np.minimum((c_last + 1) * _GROUP, nb)
+        span = int((stop - start).max())
+        idx = start[:, None] + np.arange(span)[None, :]
+        valid = idx < stop[:, None]
+        idx = np.minimum(idx, nb - 1)
+        hit = _hits(ya, sa, fine[0][idx], fine[1][idx], fine[2][idx], k) & valid
+        f_any, f_first, f_last = _first_last(hit)
+        ok = c_any & f_any
+        lo[a:b] = np.where(ok, (start + f_first) * _BLOCK, 0)
+        hi[a:b] = np.where(ok, np.minimum((start + f_last + 1) * _BLOCK - 1, n - 1), -1)
     return lo, hi
 
 
@@ -416,30 +447,38 @@ def _calibrate_chunk(rows, y, s, lo, hi, curve: CurveOnGrid, k, masses, labels, 
             return missed
     # The constant log(2π) cancels on normalising.
     loglik = np.where(near, -0.5 * (np.log(var) + z2), -np.inf)
-    dens = np.exp(loglik - loglik.max(axis=1)[:, None])
-    dens /= dens.sum(axis=1)[:, None] * grid.step
+    prob = np.exp(loglik - loglik.max(axis=1)[:, None])
+    prob /= prob.sum(axis=1)[:, None]  # probability per cell
+    cdf = np.cumsum(prob, axis=1)
     first = np.argmax(near, axis=1)
     last = w - 1 - np.argmax(near[:, ::-1], axis=1)
     first_years = grid.start + grid.step * lo[rows]
-    regions = hpd_regions_batch(dens, masses, first_years, grid.step)
-    medians = _medians(dens, grid.step, first_years)
+    regions = hpd_regions_batch(prob, masses, first_years, grid.step, normalised=True,
+                                cumulative=cdf)
+    medians = _medians(prob, cdf, grid.step, first_years)
+    dens = prob
+    dens /= grid.step  # density per year
     truncated = (lo[rows] + first == 0) | (lo[rows] + last == n - 1)
+    # One compact buffer per chunk without the padding; each date keeps a view of it.
+    cols = np.arange(w)[None, :]
+    keep = (cols >= first[:, None]) & (cols <= last[:, None])
+    compact = dens[keep]
+    compact.setflags(write=False)
+    pieces = np.split(compact, np.cumsum(last - first + 1)[:-1])
     for j, i in enumerate(rows.tolist()):
-        a, b = int(first[j]), int(last[j])
         results[i] = CalibratedDate(
             label=labels[i], cra=float(y[i]), sigma=float(s[i]), curve_label=curve.label,
-            synthetic=curve.synthetic, first_year=float(first_years[j] + grid.step * a),
-            step=grid.step, density=dens[j, a:b + 1].copy(), median=float(medians[j]),
+            synthetic=curve.synthetic, first_year=float(first_years[j] + grid.step * first[j]),
+            step=grid.step, density=pieces[j], median=float(medians[j]),
             hpd={mass: regions[mass][j] for mass in regions}, truncated=bool(truncated[j]))
     return missed
 
 
-def _medians(dens: np.ndarray, step: float, first_years: np.ndarray) -> np.ndarray:
+def _medians(prob: np.ndarray, cdf: np.ndarray, step: float, first_years: np.ndarray) -> np.ndarray:
     # Cell j spans [t_j - step/2, t_j + step/2]; interpolate the CDF inside the cell.
-    cdf = np.cumsum(dens, axis=1) * step
-    j = np.minimum((cdf < 0.5).sum(axis=1), dens.shape[1] - 1)
-    rows = np.arange(dens.shape[0])
+    j = np.minimum(np.argmax(cdf >= 0.5, axis=1), prob.shape[1] - 1)
+    rows = np.arange(prob.shape[0])
     before = np.where(j > 0, cdf[rows, np.maximum(j - 1, 0)], 0.0)
-    cell = dens[rows, j] * step
+    cell = prob[rows, j]
     frac = np.where(cell > 0, (0.5 - before) / np.where(cell > 0, cell, 1.0), 0.5)
     return first_years + step * (j - 0.5 + frac)

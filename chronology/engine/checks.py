@@ -13,7 +13,7 @@ from collections import deque
 from dataclasses import dataclass, field
 
 from .errors import ContradictionError, CycleError
-from .temporal_graph import PathStep, TemporalGraph, chain_steps, equality_chain, gc_paused
+from .temporal_graph import PathStep, TemporalGraph, _compile, chain_steps, equality_chain, gc_paused
 
 __all__ = [
     "Issue",
@@ -23,6 +23,7 @@ __all__ = [
     "topological_order",
     "strongly_connected_components",
     "ISSUE_CODES",
+    "merge_implied_equalities",
 ]
 
 #: Stable issue codes and their severities.
@@ -238,14 +239,16 @@ def _shortest_cycle(graph: TemporalGraph, comp: list[int], strict_only: bool) ->
     """
     in_comp = set(comp)
     el, ee = graph.edge_later, graph.edge_earlier
+    # Each try is a BFS over the whole component; big components get few.
+    tries = _CYCLE_TRIES if len(comp) <= 2000 else 2
     candidates = []
     for u in comp:
         for e in graph.succ[u]:
             if el[e] in in_comp and (graph.edge_strict[e] or not strict_only):
                 candidates.append(e)
-                if len(candidates) >= _CYCLE_TRIES:
+                if len(candidates) >= tries:
                     break
-        if len(candidates) >= _CYCLE_TRIES:
+        if len(candidates) >= tries:
             break
     best = None
     for e0 in candidates:
@@ -460,3 +463,36 @@ def _check(graph: TemporalGraph) -> CheckReport:
         longest_path=tuple(graph.contexts[graph.members[v][0]].id for v in path),
         longest_path_labels=tuple(graph.node_label(v) for v in path),
     )
+
+
+def merge_implied_equalities(graph: TemporalGraph) -> TemporalGraph:
+    """Merge every cycle of weak edges into one node, as the order implies.
+
+    ``a ⪯ b ⪯ a`` means ``a = b``: each strongly connected component (Tarjan
+    1972) made of weak edges only is merged, its weak relationships recorded in
+    ``graph.implied``.  Returns ``graph`` itself when there is nothing to merge.
+
+    Raises
+    ------
+    CycleError
+        If a component holds a strict edge (that cycle is a contradiction and
+        cannot be merged away).
+    """
+    in_comp: dict[int, int] = {}
+    comps = [c for c in strongly_connected_components(graph) if len(c) > 1]
+    for k, comp in enumerate(comps):
+        for v in comp:
+            in_comp[v] = k
+    implied = []
+    for e, (a, b) in enumerate(zip(graph.edge_earlier, graph.edge_later)):
+        ka = in_comp.get(a)
+        if ka is None or ka != in_comp.get(b):
+            continue
+        if graph.edge_strict[e]:
+            raise CycleError("a cycle with a strict relationship cannot be merged",
+                             details={"contexts": graph.node_context_ids(a) + graph.node_context_ids(b)})
+        implied.extend(graph.edge_relationships[e])
+    if not implied:
+        return graph
+    with gc_paused():
+        return _compile(graph.contexts, graph.relationships.values(), graph.policy, tuple(graph.implied) + tuple(implied))

@@ -64,9 +64,9 @@ def _runs(mask: np.ndarray):
     padded = np.zeros((mask.shape[0], mask.shape[1] + 2), dtype=np.int8)
     padded[:, 1:-1] = mask
     step = np.diff(padded, axis=1)
-    r0, c0 = np.nonzero(step == 1)
-    _, c1 = np.nonzero(step == -1)
-    return r0, c0, c1 - 1
+    r, c = np.nonzero(step)
+    # Changes alternate up, down within each row, and rows come in order.
+    return r[0::2], c[0::2], c[1::2] - 1
 
 
 def hpd_regions(years: np.ndarray, density: np.ndarray, mass: float) -> list[HPDRange]:
@@ -129,7 +129,8 @@ def hpd_regions(years: np.ndarray, density: np.ndarray, mass: float) -> list[HPD
 
 
 def hpd_regions_batch(density: np.ndarray, masses: Sequence[float], first_years: np.ndarray,
-                      step: float) -> dict[float, list[list[HPDRange]]]:
+                      step: float, *, normalised: bool = False,
+                      cumulative: np.ndarray | None = None) -> dict[float, list[list[HPDRange]]]:
     """HPD regions of many densities on regular grids at once.
 
     The same method as :func:`hpd_regions`, vectorised over rows: one sort
@@ -146,6 +147,12 @@ def hpd_regions_batch(density: np.ndarray, masses: Sequence[float], first_years:
         Year of each row's first column.
     step : float
         Grid spacing, shared by all rows.
+    normalised : bool
+        True when each row already sums to 1 (cell probabilities), which
+        saves a pass.
+    cumulative : ndarray, shape (m, w), optional
+        ``np.cumsum(density, axis=1)`` of the normalised rows, when the
+        caller has it already (e.g. for medians).
 
     Returns
     -------
@@ -156,29 +163,33 @@ def hpd_regions_batch(density: np.ndarray, masses: Sequence[float], first_years:
     ----------
     Hyndman, R.J. 1996. The American Statistician 50(2): 120-126.
     """
-    d = np.asarray(density, dtype=float)
-    if d.ndim != 2:
+    p = np.asarray(density, dtype=float)
+    if p.ndim != 2:
         raise ValueError("density must be 2-D (one row per density)")
-    m = d.shape[0]
+    m = p.shape[0]
     starts = np.asarray(first_years, dtype=float).reshape(m)
-    total = d.sum(axis=1)
-    if np.any(~(total > 0)):
-        raise ValueError("every row needs a positive density")
-    p = d / total[:, None]
-    desc = -np.sort(-p, axis=1)
+    if not normalised:
+        total = p.sum(axis=1)
+        if np.any(~(total > 0)):
+            raise ValueError("every row needs a positive density")
+        p = p / total[:, None]
+        cumulative = None
+    prob = np.cumsum(p, axis=1) if cumulative is None else cumulative
+    desc = np.sort(p, axis=1)[:, ::-1]
     cum = np.cumsum(desc, axis=1)
-    positive = np.count_nonzero(p > 0, axis=1)
-    prob = np.zeros((m, d.shape[1] + 1))
-    np.cumsum(p, axis=1, out=prob[:, 1:])
+    positive = np.count_nonzero(p, axis=1)
     rows = np.arange(m)
     out: dict[float, list[list[HPDRange]]] = {}
     for mass in masses:
         mass = _check_mass(mass)
-        k = np.minimum((cum < mass * (1 - 1e-12)).sum(axis=1), positive - 1)
+        k = np.minimum(np.argmax(cum >= mass * (1 - 1e-12), axis=1), positive - 1)
+        # argmax is 0 when no column reaches the mass (rounding); take the last positive.
+        k = np.where(cum[:, -1] >= mass * (1 - 1e-12), k, positive - 1)
         threshold = desc[rows, k]
         mask = (p >= threshold[:, None]) & (p > 0)
         r, a, b = _runs(mask)
-        pr = prob[r, b + 1] - prob[r, a]
+        before = np.where(a > 0, prob[r, np.maximum(a - 1, 0)], 0.0)
+        pr = prob[r, b] - before
         ya = starts[r] + step * a
         yb = starts[r] + step * b
         per_row: list[list[HPDRange]] = [[] for _ in range(m)]

@@ -343,16 +343,22 @@ def topological_order(keys: Sequence[str], constraints: Sequence[Constraint]) ->
 
 
 def _find_cycle(keys, succ, indeg) -> list[str]:
-    # nodes left with indegree > 0 contain a cycle; walk predecessors-free path until a repeat
+    # every node left with indegree > 0 has a predecessor that is also left,
+    # so walking predecessors must repeat a node: that closes a cycle
     remaining = {i for i, d in enumerate(indeg) if d > 0}
-    v = next(iter(remaining))
+    pred = {i: [] for i in remaining}
+    for v in remaining:
+        for w in succ[v]:
+            if w in remaining:
+                pred[w].append(v)
+    v = min(remaining)
     path, pos = [], {}
     while v not in pos:
         pos[v] = len(path)
         path.append(v)
-        v = next(w for w in succ[v] if w in remaining)
+        v = pred[v][0]
     cyc = path[pos[v]:] + [v]
-    return [keys[i] for i in cyc]
+    return [keys[i] for i in reversed(cyc)]
 
 
 def _support_cells(ev: Event):

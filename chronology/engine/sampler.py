@@ -399,13 +399,95 @@ def _full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last,
 
 
 @njit(cache=True, nogil=True)
+def _block_logdens(mode, prm, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                   succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                   phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                   prior_active, L, U, R, left, step, G):
+    # moves the block to parameter prm and returns its log density (with the
+    # Jacobian term of the scale move), -inf if an outside constraint breaks
+    c = np.exp(prm)
+    for j in range(s0, s1):
+        v = shift_idx[j]
+        x[v] = xs[v] + prm if mode == 0 else pivot + c * (xs[v] - pivot)
+    g = 0.0
+    for j in range(s0, s1):
+        v = shift_idx[j]
+        if x[v] < L or x[v] > U:
+            return -np.inf
+        for q in range(pred_ptr[v], pred_ptr[v + 1]):
+            w = pred_idx[q]
+            if mark[w] != stamp and x[w] > x[v]:
+                return -np.inf
+        for q in range(succ_ptr[v], succ_ptr[v + 1]):
+            w = succ_idx[q]
+            if mark[w] != stamp and x[w] < x[v]:
+                return -np.inf
+        if kind[v] == 0:
+            g += _node_ll_cell(v, _cell(x[v], left, step, G), row, static_ll, det_ptr, det_in, det_out, phi)
+    if prior_active:
+        g += _full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k, R)
+    if mode == 1:
+        # generalised Gibbs along the scale group (Liu & Sabatti 2000): scaling k values about
+        # their own fixed boundary midpoint has Jacobian c^(k-1); Haar measure du for u = log c
+        g += (s1 - s0 - 1) * prm
+    return g
+
+
+@njit(cache=True, nogil=True)
+def _block_slice(mode, w, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                 succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                 phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                 prior_active, L, U, R, left, step, G, rng):
+    """Slice sampling with stepping out and shrinkage (Neal 2003, Figs 3 and 5) of a block move."""
+    g0 = _block_logdens(mode, 0.0, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                        succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                        phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                        prior_active, L, U, R, left, step, G)
+    if not g0 > -np.inf:
+        return
+    y = g0 + np.log(_uniform(rng))
+    a = -w * _uniform(rng)
+    b = a + w
+    J = int(np.floor(8 * _uniform(rng)))
+    K = 7 - J
+    while J > 0 and _block_logdens(mode, a, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
+                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
+                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                                   prior_active, L, U, R, left, step, G) > y:
+        a -= w
+        J -= 1
+    while K > 0 and _block_logdens(mode, b, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
+                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
+                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                                   prior_active, L, U, R, left, step, G) > y:
+        b += w
+        K -= 1
+    for _ in range(60):
+        d = a + _uniform(rng) * (b - a)
+        g = _block_logdens(mode, d, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                           succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                           phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                           prior_active, L, U, R, left, step, G)
+        if g > y:
+            return
+        if d < 0:
+            a = d
+        else:
+            b = d
+    _block_logdens(mode, 0.0, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                   succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                   phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                   prior_active, L, U, R, left, step, G)
+
+
+@njit(cache=True, nogil=True)
 def _sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                  kind, pred_ptr, pred_idx, succ_ptr, succ_idx, row, static_ll, static_cdf,
                  det_ptr, det_in, det_out, det_logq, det_log1mq, det_node,
                  phase_start, phase_end, phase_n, shift_ptr, shift_idx,
                  block_first, block_last, block_k,
                  node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                 prior_active, L, U, left, step, it0):
+                 prior_active, L, U, left, step, it0, block_every):
     N = x.shape[0]
     G = static_ll.shape[1]
     R = U - L
@@ -452,75 +534,26 @@ def _sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos
                         b = x[v]
                 if not accepted:
                     x[v] = x0
-        # --- whole-phase shifts ---------------------------------------------
-        for p in range(phase_start.shape[0]):
+        # --- whole-phase shift and scale moves (slice sampling, Neal 2003) ----
+        for p in range(phase_start.shape[0] if it % block_every == 0 else 0):
             s0, s1 = shift_ptr[p], shift_ptr[p + 1]
             stamp = it * phase_start.shape[0] + p
             for j in range(s0, s1):
                 mark[shift_idx[j]] = stamp
-            dlo, dhi = L - 1e300, U + 1e300
-            for j in range(s0, s1):
-                v = shift_idx[j]
-                if L - x[v] > dlo:
-                    dlo = L - x[v]
-                if U - x[v] < dhi:
-                    dhi = U - x[v]
-                for q in range(pred_ptr[v], pred_ptr[v + 1]):
-                    w = pred_idx[q]
-                    if mark[w] != stamp and x[w] - x[v] > dlo:
-                        dlo = x[w] - x[v]
-                for q in range(succ_ptr[v], succ_ptr[v + 1]):
-                    w = succ_idx[q]
-                    if mark[w] != stamp and x[w] - x[v] < dhi:
-                        dhi = x[w] - x[v]
-            if not (dhi > dlo):
-                continue
-            width = x[phase_end[p]] - x[phase_start[p]] + step
-            for j in range(s0, s1):
-                v = shift_idx[j]
-                xs[v] = x[v]
-            # log density along the shift direction, at shift 0
-            g0 = 0.0
-            for j in range(s0, s1):
-                v = shift_idx[j]
-                if kind[v] == 0:
-                    g0 += _node_ll_cell(v, _cell(x[v], left, step, G), row, static_ll, det_ptr,
-                                        det_in, det_out, phi)
-            if prior_active:
-                g0 += _full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k, R)
-            y = g0 + np.log(_uniform(rng))
-            a = -width * _uniform(rng)
-            b = a + width
-            if a < dlo:
-                a = dlo
-            if b > dhi:
-                b = dhi
-            done = False
-            for _ in range(60):
-                d = a + _uniform(rng) * (b - a)
-                for j in range(s0, s1):
-                    v = shift_idx[j]
-                    x[v] = xs[v] + d
-                g = 0.0
-                for j in range(s0, s1):
-                    v = shift_idx[j]
-                    if kind[v] == 0:
-                        g += _node_ll_cell(v, _cell(x[v], left, step, G), row, static_ll, det_ptr,
-                                           det_in, det_out, phi)
-                if prior_active and g > -np.inf:
-                    g += _full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last,
-                                         block_k, R)
-                if g > y:
-                    done = True
-                    break
-                if d < 0:
-                    a = d
+                xs[shift_idx[j]] = x[shift_idx[j]]
+            for mode in range(2):
+                # the scale pivot is the current midpoint, which scaling leaves in place
+                pivot = 0.5 * (x[phase_end[p]] + x[phase_start[p]])
+                if mode == 0:
+                    w = x[phase_end[p]] - x[phase_start[p]] + 10.0 * step
                 else:
-                    b = d
-            if not done:
-                for j in range(s0, s1):
-                    v = shift_idx[j]
-                    x[v] = xs[v]
+                    w = 0.3
+                    for j in range(s0, s1):
+                        xs[shift_idx[j]] = x[shift_idx[j]]
+                _block_slice(mode, w, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
+                             pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                             phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                             prior_active, L, U, R, left, step, G, rng)
         # --- outlier indicators (Christen 1994), shift integrated out ---------
         for d in range(det_node.shape[0]):
             v = det_node[d]
@@ -618,7 +651,8 @@ def _initial_state(f: FlatModel, rng: np.random.Generator) -> np.ndarray:
             t = tentative[v]
             x[v] = t if lo <= t <= hi else _draw_between(f, v, lo, hi, rng)
         else:
-            top = min(hi, below[v]) if below[v] > lo else hi
+            # just above the placed predecessors when the tentative dates below are earlier
+            top = min(hi, below[v]) if below[v] > lo else min(hi, lo + max(10 * f.step, 0.002 * (f.hi - f.lo)))
             x[v] = float(rng.uniform(lo, top)) if top > lo else lo
     return x
 
@@ -644,6 +678,7 @@ def run_chain(
     progress: Callable[[int], None] | None = None,
     cancel: Callable[[], bool] | None = None,
     check_every: int = 1000,
+    block_every: int = 1,
 ) -> ChainResult:
     """Run ONE chain and return its kept draws.
 
@@ -666,12 +701,14 @@ def run_chain(
     cancel : callable, optional
         Called every ``check_every`` sweeps; returning True stops the chain
         with :class:`~chronology.engine.errors.SamplingCancelled`.
+    block_every : int
+        Whole-phase shift and scale moves every ``block_every`` sweeps.
 
     Returns
     -------
     ChainResult
     """
-    if iterations < 1 or warmup < 0 or thin < 1 or check_every < 1:
+    if iterations < 1 or warmup < 0 or thin < 1 or check_every < 1 or block_every < 1:
         raise ValueError("iterations >= 1, warmup >= 0, thin >= 1 and check_every >= 1 are required")
     f = model if isinstance(model, FlatModel) else flatten(model)
     rng_py = np.random.Generator(np.random.PCG64(seed))
@@ -695,7 +732,7 @@ def run_chain(
         if cancel is not None and cancel():
             raise SamplingCancelled("sampling was cancelled", details={"chain": chain, "iterations_done": done})
         step_n = min(check_every, total - done)
-        pos = _sweep_block(step_n, warmup, thin, x, phi, state, out_x, out_phi, pos, *args, done)
+        pos = _sweep_block(step_n, warmup, thin, x, phi, state, out_x, out_phi, pos, *args, done, block_every)
         done += step_n
         if progress is not None:
             progress(done)
@@ -716,6 +753,7 @@ def run_chains(
     progress: Callable[[int], None] | None = None,
     cancel: Callable[[], bool] | None = None,
     check_every: int = 1000,
+    block_every: int = 1,
 ) -> list[ChainResult]:
     """Run ``n_chains`` chains seeded by :func:`chain_seeds` in a thread pool.
 
@@ -732,7 +770,8 @@ def run_chains(
             if progress is not None:
                 progress(sum(done))
         return run_chain(f, seeds[c], chain=c, iterations=iterations, warmup=warmup, thin=thin,
-                         progress=report, cancel=cancel, check_every=check_every)
+                         progress=report, cancel=cancel, check_every=check_every,
+                         block_every=block_every)
 
     workers = workers or min(n_chains, 4)
     if workers == 1:

@@ -206,6 +206,10 @@ class TemporalGraph:
         Id -> RelationshipData for every relationship given.
     extras : tuple of ExtraOrdering
     policy : OrderPolicy
+    implied : tuple of int
+        Ids of weak relationships merged because they closed a weak-only
+        cycle (see ``checks.merge_implied_equalities``); they also appear in
+        ``equality_adj`` so explanations can walk them.
     """
 
     contexts: tuple
@@ -227,6 +231,7 @@ class TemporalGraph:
     relationships: dict
     extras: tuple
     policy: OrderPolicy
+    implied: tuple = ()
     _cache: dict = field(default_factory=dict, repr=False)
 
     @property
@@ -362,7 +367,8 @@ def compile_order(
         return _compile(contexts, relationships, policy or OrderPolicy())
 
 
-def _compile(contexts, relationships, policy: OrderPolicy) -> TemporalGraph:
+def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> TemporalGraph:
+    """Build the graph; ``implied`` are ids of weak relationships merged as equalities."""
     contexts = sorted(contexts, key=lambda c: c.id)
     relationships = sorted(relationships, key=lambda r: r.id)
     _validate(contexts, relationships)
@@ -402,6 +408,15 @@ def _compile(contexts, relationships, policy: OrderPolicy) -> TemporalGraph:
         equality_adj[b].append((a, r.id))
         merged.append(r.id)
 
+    index_of_rel = None
+    for rid in implied:
+        if index_of_rel is None:
+            index_of_rel = {r.id: r for r in relationships}
+        r = index_of_rel[rid]
+        a, b = index_of[r.later], index_of[r.earlier]
+        uf.union(a, b)
+        equality_adj[a].append((b, r.id))
+        equality_adj[b].append((a, r.id))
     node_of = uf.labels()
     n_nodes = (max(node_of) + 1) if n else 0
     members: list[list[int]] = [[] for _ in range(n_nodes)]
@@ -494,6 +509,7 @@ def _compile(contexts, relationships, policy: OrderPolicy) -> TemporalGraph:
         relationships={r.id: r for r in relationships},
         extras=extras,
         policy=policy,
+        implied=tuple(implied),
     )
 
 
@@ -536,6 +552,18 @@ def _support(graph: TemporalGraph, e: int, prefer_later: int | None) -> tuple:
     A strict edge is explained by a strict support; among those, one whose later
     end is ``prefer_later`` avoids an equality detour.
     """
+    rels = graph.edge_relationships[e]
+    if len(rels) == 1 and not graph.edge_extras[e]:
+        # One support: the answer does not depend on ``prefer_later``; memoise.
+        memo = graph._cache.setdefault("single_support", {})
+        hit = memo.get(e)
+        if hit is None:
+            hit = memo[e] = _pick_support(graph, e, None)
+        return hit
+    return _pick_support(graph, e, prefer_later)
+
+
+def _pick_support(graph: TemporalGraph, e: int, prefer_later: int | None) -> tuple:
     strict = graph.edge_strict[e]
     best = None
     index_of = graph.index_of

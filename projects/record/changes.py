@@ -128,6 +128,7 @@ class ChangeSet:
         )
         Project.objects.filter(pk=self.project.pk).update(revision=self.revision)
         self.project.revision = self.revision
+        self.project.latest_digest = revision.digest
         return revision
 
 

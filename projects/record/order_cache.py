@@ -66,6 +66,8 @@ def _catch_up(project: Project, cached: _Cached) -> IncrementalOrder | None:
     if cached.revision > project.revision or _digest_at(project, cached.revision) != cached.digest:
         return None
     order = cached.order
+    if cached.revision == project.revision:
+        return order
     entries = ChangeLogEntry.objects.filter(
         project=project, revision__gt=cached.revision, object_kind="relationship"
     ).order_by("revision", "id")
@@ -93,7 +95,7 @@ def checkout(project: Project) -> IncrementalOrder:
         order = build_order(project)
 
     def _return():
-        digest = _digest_at(project, project.revision)
+        digest = getattr(project, "latest_digest", None) or _digest_at(project, project.revision)
         with _lock:
             current = _registry.get(project.pk)
             if current is None or current.revision < project.revision:

@@ -137,6 +137,20 @@ def _active_context(project: Project, ref, field: str) -> Context:
     return ctx
 
 
+def _two_contexts(project: Project, subject_ref, object_ref) -> tuple[Context, Context]:
+    """Both ends of a relationship; one query in the usual case (two labels)."""
+    refs = (subject_ref, object_ref)
+    if all(isinstance(r, str) and r.strip() for r in refs):
+        wanted = {r.strip() for r in refs}
+        found = {
+            c.label: c
+            for c in Context.objects.filter(project=project, retracted_revision__isnull=True, label__in=wanted).order_by()
+        }
+        if len(found) == len(wanted):
+            return found[subject_ref.strip()], found[object_ref.strip()]
+    return _active_context(project, subject_ref, "subject"), _active_context(project, object_ref, "object")
+
+
 # -- contexts ----------------------------------------------------------------
 
 def _add_context(changes: ChangeSet, fields: dict, uid) -> WriteResult:
@@ -258,8 +272,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
         raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
     note = data.get("note") or ""
     uid = _parse_uid(data.get("uid"))
-    subject = _active_context(project, data.get("subject"), "subject")
-    obj = _active_context(project, data.get("object"), "object")
+    subject, obj = _two_contexts(project, data.get("subject"), data.get("object"))
     if subject.pk == obj.pk:
         raise RecordInvalid(f"context {subject.label} cannot be related to itself", field="object", code="self-relationship")
     type_, later_id, earlier_id = canonical_relationship(subject.pk, wording, obj.pk)
@@ -278,33 +291,32 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
                 )
             return WriteResult(existing, False, project.revision)
 
-    active = Relationship.objects.filter(project=project, retracted_revision__isnull=True)
-    if type_ in EQUALITY_TYPES:
-        pair = active.filter(type=type_).filter(
-            models_q_pair(later_id, earlier_id) | models_q_pair(earlier_id, later_id)
-        )
-    else:
-        pair = active.filter(type=type_, later_id=later_id, earlier_id=earlier_id)
-    duplicate = pair.first()
-    if duplicate is not None:
-        if duplicate.certainty != certainty:
-            raise RecordConflict(
-                f"{relationship_text(type_, labels[later_id], labels[earlier_id])} is already recorded as "
-                f"{duplicate.certainty}; retract it to change its certainty",
-                field="certainty", code="duplicate-differs", existing_id=duplicate.id,
-            )
-        return WriteResult(duplicate, False, project.revision)
-
+    # One query finds both a duplicate and an inverse between the same two contexts.
+    between = list(
+        Relationship.objects.filter(project=project, retracted_revision__isnull=True)
+        .filter(models_q_pair(later_id, earlier_id) | models_q_pair(earlier_id, later_id))
+        .order_by("id")
+    )
+    for duplicate in between:
+        same_way = (duplicate.later_id, duplicate.earlier_id) == (later_id, earlier_id)
+        if duplicate.type == type_ and (same_way or type_ in EQUALITY_TYPES):
+            if duplicate.certainty != certainty:
+                raise RecordConflict(
+                    f"{relationship_text(type_, labels[later_id], labels[earlier_id])} is already recorded as "
+                    f"{duplicate.certainty}; retract it to change its certainty",
+                    field="certainty", code="duplicate-differs", existing_id=duplicate.id,
+                )
+            return WriteResult(duplicate, False, project.revision)
     if type_ in ORDERED_TYPES:
-        inverse = active.filter(type__in=ORDERED_TYPES, later_id=earlier_id, earlier_id=later_id).first()
-        if inverse is not None:
-            raise RecordConflict(
-                f"the inverse is already recorded: "
-                f"{relationship_text(inverse.type, labels[inverse.later_id], labels[inverse.earlier_id])}",
-                field="type", code="inverse-recorded", existing_id=inverse.id,
-                existing={"id": inverse.id, "type": inverse.type, "later": labels[inverse.later_id],
-                          "earlier": labels[inverse.earlier_id]},
-            )
+        for inverse in between:
+            if inverse.type in ORDERED_TYPES and (inverse.later_id, inverse.earlier_id) == (earlier_id, later_id):
+                raise RecordConflict(
+                    f"the inverse is already recorded: "
+                    f"{relationship_text(inverse.type, labels[inverse.later_id], labels[inverse.earlier_id])}",
+                    field="type", code="inverse-recorded", existing_id=inverse.id,
+                    existing={"id": inverse.id, "type": inverse.type, "later": labels[inverse.later_id],
+                              "earlier": labels[inverse.earlier_id]},
+                )
 
     order = _order(changes)
     order.add_context(later_id)

@@ -15,7 +15,7 @@ from collections.abc import Iterable, Sequence
 from ..errors import DiagramError
 from .layering import assign_layers
 from .model import KINDS, UNPHASED_BAND, Band, DiagramEdge, DiagramNode, EdgePath, Layout, NodeBox
-from .ordering import initial_order, make_proper, minimise_crossings, order_crossings
+from .ordering import initial_order, make_proper, minimise_crossings
 from .routing import assign_x
 from .style import FONT_SIZE, LAYER_GAP, NODE_HEIGHT, node_text, text_width
 
@@ -24,6 +24,8 @@ __all__ = ["layout_diagram"]
 _DUMMY_WIDTH = 4.0
 _MIN_NODE_WIDTH = 40.0
 _MARGIN = 16.0
+_STRIP_GAP = 40.0  # same as the routing default between phased area and strip
+_MIN_BAND_WIDTH = 80.0
 _STRIP_HEADER = 22.0  # room for the unphased strip's name above its top layer
 
 
@@ -45,7 +47,9 @@ def layout_diagram(
         A relation given twice is drawn once (strict if either is strict).
     phases : sequence of str, optional
         Phase names, earliest first.  When given, each phase gets a band and
-        every node whose ``phase`` is set must name one of them.
+        every node whose ``phase`` is set must name one of them; nodes with
+        no phase go to the unphased strip on the right.  Without it, node
+        phases are ignored and no bands are drawn.
     sweeps : int
         Crossing-reduction sweeps (see :func:`.ordering.minimise_crossings`).
 
@@ -94,6 +98,8 @@ def layout_diagram(
     label_column = _label_column(phases)
     x = assign_x(graph, layers, widths)
     x = [xv + label_column + _MARGIN for xv in x]
+    if phases:
+        _clear_strip(x, widths, graph.group, label_column)
     top = assignment.n_layers - 1
     header = _STRIP_HEADER if any(group) else 0.0
 
@@ -227,13 +233,29 @@ def _edge_path(nodes, graph, k, pair, strict, conflict, x, y_of, widths) -> Edge
     return EdgePath(nodes[a].id, nodes[b].id, strict, conflict, points)
 
 
+def _phased_right(x, widths, group, label_column) -> float:
+    """Right edge of the phased area, never narrower than the band names."""
+    right = max((x[v] + widths[v] / 2 for v in range(len(x)) if group[v] == 0), default=0.0)
+    return max(right, label_column + _MARGIN + _MIN_BAND_WIDTH)
+
+
+def _clear_strip(x, widths, group, label_column) -> None:
+    """Shift the unphased strip right if the phased area is wider than its content."""
+    strip = [v for v in range(len(x)) if group[v] == 1]
+    if not strip:
+        return
+    needed = _phased_right(x, widths, group, label_column) + _STRIP_GAP
+    deficit = needed - min(x[v] - widths[v] / 2 for v in strip)
+    if deficit > 0:
+        for v in strip:
+            x[v] += deficit
+
+
 def _bands(phases, assignment, group, x, widths, y_of, width, n_vertices, graph):
     if not phases:
         return ()
     half_gap = LAYER_GAP / 2
-    phased_right = max(
-        (x[v] + widths[v] / 2 for v in range(n_vertices) if graph.group[v] == 0), default=0.0
-    )
+    phased_right = _phased_right(x, widths, graph.group, _label_column(phases))
     has_strip = any(group)
     band_right = phased_right + (16.0 if has_strip else _MARGIN)
     if not has_strip:

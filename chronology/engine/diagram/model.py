@@ -105,7 +105,13 @@ class Band:
 
 @dataclass(frozen=True, slots=True)
 class Layout:
-    """A complete layered drawing, ready to render."""
+    """A complete layered drawing, ready to render.
+
+    ``layer_orders[i]`` lists layer ``i`` (0 = bottom) from left to right:
+    node ids, and negative numbers ``-1, -2, ...`` for the bend points of
+    long relations, numbered along ``edges`` in order.  ``crossings``
+    counts segment crossings between adjacent layers of that order.
+    """
 
     nodes: tuple[NodeBox, ...]
     edges: tuple[EdgePath, ...]

@@ -131,7 +131,7 @@ def order_crossings(graph: ProperGraph, layers: list[list[int]]) -> int:
 
 
 def minimise_crossings(
-    graph: ProperGraph, layers: list[list[int]], iterations: int = 24
+    graph: ProperGraph, layers: list[list[int]], iterations: int = 24, sift_passes: int = 2
 ) -> tuple[list[list[int]], int]:
     """Reduce crossings by median/barycenter sweeps with transposition.
 
@@ -142,7 +142,12 @@ def minimise_crossings(
         Starting order (not modified).
     iterations : int
         Number of sweeps; even ones go upward, odd ones downward; the first
-        half use the median, the second half the barycenter.
+        half use the median, the second half alternate barycenter and median
+        pairs.
+    sift_passes : int
+        Passes of sifting (Matuszewski, Schönfeld & Molitor 1999) over the
+        best sweep result: each vertex in turn moves to the place in its
+        layer where it crosses least.
 
     Returns
     -------
@@ -159,30 +164,40 @@ def minimise_crossings(
     Sugiyama, K., Tagawa, S. & Toda, M. (1981). Methods for visual
     understanding of hierarchical system structures. IEEE Transactions on
     Systems, Man, and Cybernetics 11(2), 109-125.
+    Matuszewski, C., Schönfeld, R. & Molitor, P. (1999). Using sifting for
+    k-layer straightline crossing minimization. Graph Drawing (GD 1999),
+    LNCS 1731, 217-224.
     """
     best = [list(layer) for layer in layers]
     best_count = order_crossings(graph, best)
     current = [list(layer) for layer in best]
-    stale = 0
     for it in range(iterations):
         if best_count == 0:
             break
-        use_median = it < iterations // 2
+        use_median = it < iterations // 2 or it % 4 < 2
+        # on alternate pairs of sweeps, ties and equal swaps go the other
+        # way, which lets the search leave plateaus (Gansner et al. 1993)
+        flip = it % 4 >= 2
         if it % 2 == 0:
             for i in range(1, len(current)):
-                _sort_layer(graph, current, i, graph.down, current[i - 1], use_median)
+                _sort_layer(graph, current, i, graph.down, current[i - 1], use_median, flip)
         else:
             for i in range(len(current) - 2, -1, -1):
-                _sort_layer(graph, current, i, graph.up, current[i + 1], use_median)
+                _sort_layer(graph, current, i, graph.up, current[i + 1], use_median, flip)
+        _transpose(graph, current, equal_swaps=flip)
+        count = order_crossings(graph, current)
+        if count <= best_count:
+            best, best_count = [list(layer) for layer in current], count
+    for _ in range(sift_passes):
+        if best_count == 0:
+            break
+        current = [list(layer) for layer in best]
+        _sift(graph, current)
         _transpose(graph, current)
         count = order_crossings(graph, current)
-        if count < best_count:
-            best, best_count, stale = [list(layer) for layer in current], count, 0
-        else:
-            stale += 1
-            if stale >= 4:
-                # sweeps wander off; resume from the best order seen
-                current, stale = [list(layer) for layer in best], 0
+        if count >= best_count:
+            break
+        best, best_count = current, count
     return best, best_count
 
 
@@ -194,7 +209,7 @@ def _positions(graph: ProperGraph, layers: list[list[int]]) -> list[int]:
     return position
 
 
-def _sort_layer(graph, layers, i, neighbours, fixed, use_median) -> None:
+def _sort_layer(graph, layers, i, neighbours, fixed, use_median, flip=False) -> None:
     pos_fixed = {v: p for p, v in enumerate(fixed)}
     layer = layers[i]
     scale = len(fixed) / max(len(layer), 1)
@@ -207,6 +222,8 @@ def _sort_layer(graph, layers, i, neighbours, fixed, use_median) -> None:
             keys[v] = _weighted_median(ps)
         else:
             keys[v] = sum(ps) / len(ps)
+    if flip:
+        layer.reverse()  # the sort is stable: equal keys swap sides
     layer.sort(key=lambda v: (graph.group[v], keys[v]))
 
 
@@ -238,12 +255,52 @@ def _pair_crossings(pos, nv, nw) -> tuple[int, int]:
     return vw, wv
 
 
-def _transpose(graph: ProperGraph, layers: list[list[int]], max_passes: int = 8) -> None:
-    """Swap neighbours in a layer while that lowers crossings (Gansner et al. 1993)."""
+def _sift(graph: ProperGraph, layers: list[list[int]]) -> None:
+    """Move each vertex to its least-crossing place in its layer, one by one.
+
+    Only crossings between the moved vertex's edges and its layer mates'
+    change, so the gain of each place is exact: sliding ``v`` past ``w``
+    changes the count by ``c(w, v) - c(v, w)``.  Vertices stay in their
+    group's stretch of the layer.
+    """
+    pos = _positions(graph, layers)
+    up, down, group = graph.up, graph.down, graph.group
+    for layer in layers:
+        for v in list(layer):
+            j = layer.index(v)
+            lo = j
+            while lo > 0 and group[layer[lo - 1]] == group[v]:
+                lo -= 1
+            hi = j
+            while hi + 1 < len(layer) and group[layer[hi + 1]] == group[v]:
+                hi += 1
+            others = layer[lo:j] + layer[j + 1 : hi + 1]
+            # cost relative to v at the stretch's left end; ties keep v's place
+            cost = 0
+            best_cost, best_at = 0, 0
+            for k, w in enumerate(others):
+                a1, b1 = _pair_crossings(pos, up[v], up[w])
+                a2, b2 = _pair_crossings(pos, down[v], down[w])
+                cost += (b1 + b2) - (a1 + a2)  # now w left of v
+                if cost < best_cost or (cost == best_cost and lo + k + 1 == j):
+                    best_cost, best_at = cost, k + 1
+            others.insert(best_at, v)
+            layer[lo : hi + 1] = others
+            for p in range(lo, hi + 1):
+                pos[layer[p]] = p
+
+
+def _transpose(graph: ProperGraph, layers: list[list[int]], equal_swaps: bool = False,
+               max_passes: int = 30) -> None:
+    """Swap neighbours in a layer while that lowers crossings (Gansner et al. 1993).
+
+    With ``equal_swaps`` a swap that leaves the count unchanged is made too;
+    passes stop once a pass brings no strict gain.
+    """
     pos = _positions(graph, layers)
     up, down, group = graph.up, graph.down, graph.group
     for _ in range(max_passes):
-        improved = False
+        gain = 0
         for layer in layers:
             for j in range(len(layer) - 1):
                 v, w = layer[j], layer[j + 1]
@@ -251,9 +308,10 @@ def _transpose(graph: ProperGraph, layers: list[list[int]], max_passes: int = 8)
                     continue
                 a1, b1 = _pair_crossings(pos, up[v], up[w])
                 a2, b2 = _pair_crossings(pos, down[v], down[w])
-                if b1 + b2 < a1 + a2:
+                before, after = a1 + a2, b1 + b2
+                if after < before or (equal_swaps and after == before and before > 0):
                     layer[j], layer[j + 1] = w, v
                     pos[v], pos[w] = j + 1, j
-                    improved = True
-        if not improved:
+                    gain += before - after
+        if gain == 0:
             break

@@ -9,7 +9,7 @@ bitsets, one per node, filled in reverse topological order.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable
 from dataclasses import dataclass
 
 from ..errors import DiagramError

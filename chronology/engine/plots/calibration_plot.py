@@ -141,6 +141,7 @@ def calibration_plot(date: CalibratedDate, curve: CurveOnGrid, *, title: str | N
     bottom.set_xlabel("Calendar date (cal BC/AD)")
     for ax in (top, bottom):
         ax.spines[["top", "right"]].set_visible(False)
+        ax.set_axisbelow(True)
         ax.grid(axis="x", color="#dddddd", linewidth=0.5)
     heading = title or f"{date.label or 'Determination'}: {date.cra:.0f} ± {date.sigma:.0f} BP"
     top.set_title(heading, loc="left", fontsize=11)

@@ -1,0 +1,16 @@
+"""A liveness check for load balancers and container health checks."""
+
+from django.db import connection
+from rest_framework.decorators import api_view, authentication_classes, permission_classes, throttle_classes
+from rest_framework.permissions import AllowAny
+from rest_framework.response import Response
+
+
+@api_view(["GET"])
+@authentication_classes([])
+@permission_classes([AllowAny])
+@throttle_classes([])
+def health(request):
+    with connection.cursor() as cursor:
+        cursor.execute("SELECT 1")
+    return Response({"status": "ok", "database": connection.vendor})

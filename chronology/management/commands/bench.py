@@ -1,0 +1,60 @@
+"""``python manage.py bench SUITE --json``: speed figures as JSON.
+
+Suites measure, in one run, our code and (where there is one) the reference
+library doing the same job, so ratios are fair.  Tests assert correctness;
+these only report speed.
+"""
+
+from __future__ import annotations
+
+import importlib
+import json
+
+from django.core.management.base import BaseCommand, CommandError
+
+SUITES = {
+    "record": "chronology.benchmarks.record",
+    "graph": "chronology.benchmarks.graph",
+    "diagram": "chronology.benchmarks.diagram",
+    "alternatives": "chronology.benchmarks.alternatives",
+    "calibration": "chronology.benchmarks.calibration",
+    "sampler": "chronology.benchmarks.sampler",
+}
+
+
+class Command(BaseCommand):
+    help = "Run a benchmark suite and print its figures (as JSON with --json)."
+
+    def add_arguments(self, parser):
+        parser.add_argument("suite", choices=sorted(SUITES))
+        parser.add_argument("--json", action="store_true", help="Print one JSON object.")
+        parser.add_argument("--contexts", type=int, action="append", help="Record size(s), where the suite takes one.")
+        parser.add_argument("--posts", type=int, help="Relationships to post (record suite).")
+        parser.add_argument("--quick", action="store_true", help="Smaller cases, for a smoke run.")
+
+    def handle(self, *args, suite, json: bool, contexts, posts, quick, **options):
+        try:
+            module = importlib.import_module(SUITES[suite])
+        except ImportError as exc:
+            raise CommandError(f"suite {suite} is not available: {exc}") from exc
+        kwargs = {}
+        if suite == "record":
+            if contexts:
+                kwargs["contexts"] = contexts[0]
+            if posts:
+                kwargs["posts"] = posts
+        elif contexts and suite in ("graph", "diagram"):
+            kwargs["sizes"] = tuple(contexts)
+        elif contexts and suite == "alternatives":
+            kwargs["contexts"] = contexts[0]
+        if quick:
+            kwargs.update(getattr(module, "QUICK", {}))
+        result = module.run(**kwargs)
+        if json:
+            self.stdout.write(_dumps(result))
+        else:
+            self.stdout.write(_dumps(result, indent=2))
+
+
+def _dumps(result, indent=None) -> str:
+    return json.dumps(result, indent=indent, default=float)
