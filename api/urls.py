@@ -18,8 +18,14 @@ nested.register("changes", record.ChangeViewSet, basename="change")
 nested.register("revisions", record.RevisionViewSet, basename="revision")
 nested.register("sync", record.SyncViewSet, basename="sync")
 
-#: Other apps add their project-nested routes here (see chronology's api modules).
-project_urlpatterns = nested.urls
+#: Each app's project-nested routes live in their own module under api/routes/.
+project_urlpatterns = [
+    *nested.urls,
+    path("", include("api.routes.checks")),
+    path("", include("api.routes.evidence")),
+    path("", include("api.routes.interpretations")),
+    path("", include("api.routes.runs")),
+]
 
 urlpatterns = [
     path("v1/", include(root.urls)),

@@ -40,6 +40,9 @@ INSTALLED_APPS = [
     "drf_spectacular",
     "projects",
     "chronology",
+    "chronology.evidence",
+    "chronology.interpretations",
+    "chronology.runs",
     "api",
 ]
 

@@ -18,6 +18,25 @@ ROLES = [Role.VIEWER, Role.RECORDER, Role.ANALYST, Role.MANAGER]
 
 
 @pytest.fixture(autouse=True)
+def _tasks_in_process(request):
+    """Run Celery tasks in-process, except in tests marked ``real_worker``.
+
+    CI sets a Redis broker so the worker tests can use it; every other test
+    must not depend on a worker being up.
+    """
+    from config.celery import app
+
+    if request.node.get_closest_marker("real_worker"):
+        yield
+        return
+    previous = app.conf.task_always_eager, app.conf.task_eager_propagates
+    app.conf.task_always_eager = True
+    app.conf.task_eager_propagates = True
+    yield
+    app.conf.task_always_eager, app.conf.task_eager_propagates = previous
+
+
+@pytest.fixture(autouse=True)
 def _fresh_order_cache():
     order_cache.forget()
     yield

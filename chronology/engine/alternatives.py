@@ -457,8 +457,12 @@ def analyse_alternatives(
     conflicts: list[int] = []
     weight = sum(len(b) for b in blocks) or 1
     done = 0
-    for block in blocks:
-        found, ok = _block_conflicts(graph, block, max_k_exact, run)
+    block_of: dict[int, int] = {}
+    maximal: dict[int, list[int] | None] = {}
+    for b, block in enumerate(blocks):
+        found, maximal[b], ok = _block_conflicts(graph, block, max_k_exact, run)
+        for i in block:
+            block_of[i] = b
         conflicts.extend(found)
         if not ok:
             exact = False
@@ -477,7 +481,7 @@ def analyse_alternatives(
     implied_by_base: set[int] = set()
     for i in range(k):
         if i not in forced_out:
-            imps, ok = _implicants(graph, items, i, forced_out, full, max_k_exact, run)
+            imps, ok = _implicants(graph, items, i, forced_out, full, max_k_exact, run, block_of, maximal)
             if not ok:
                 exact = False
                 notes.append(f"implicants of item {items[i].ref!r} searched only partly")
@@ -496,26 +500,64 @@ def analyse_alternatives(
     return result
 
 
-def _block_conflicts(graph: _Graph, block: list[int], max_k_exact: int, run: _Run) -> tuple[list[int], bool]:
+def _block_conflicts(
+    graph: _Graph, block: list[int], max_k_exact: int, run: _Run
+) -> tuple[list[int], list[int] | None, bool]:
+    """Minimal conflicts and maximal consistent sets of one block.
+
+    Returns ``(conflicts, maximal, exact)``; ``maximal`` is None when the
+    search was cut short.
+    """
+    oracle = graph.oracle(block)
     if len(block) == 1:
         i = block[0]
-        return ([1 << i] if not graph.consistent(1 << i) else []), True
+        if oracle.good(1 << i):
+            return [], [1 << i], True
+        return [1 << i], [0], True
     if len(block) > max_k_exact:
-        return small_bad_sets(block, graph.oracle(block).good, 2), False
-    oracle = graph.oracle(block)
+        return small_bad_sets(block, oracle.good, 2), None, False
     if run.expired():
-        return small_bad_sets(block, oracle.good, 1), False
+        return small_bad_sets(block, oracle.good, 1), None, False
     try:
-        bad, _ = dualize(block, oracle.good, grow=oracle.grow, deadline=run.deadline, check=run.check)
-        return bad, True
+        bad, maximal = dualize(block, oracle.good, grow=oracle.grow, deadline=run.deadline, check=run.check)
+        return bad, maximal, True
     except _BudgetExceeded as stop:
-        return list(stop.args[0].bad), False
+        return list(stop.args[0].bad), None, False
 
 
-def _implicants(graph, items, i, forced_out, full, max_k_exact, run) -> tuple[list[int], bool]:
+_FILTER_LIMIT = 4096
+
+
+def _never_implied(oracle: "_Oracle", cand: list[int], block_of: dict, maximal: dict) -> bool:
+    """True when no consistent subset of ``cand`` implies the probed direction.
+
+    Implication is monotone over consistent sets, so it is enough to test the
+    maximal consistent subsets of ``cand``: the products of the blocks'
+    maximal sets restricted to ``cand``.  False means "maybe" (also when
+    there are too many products to test).
+    """
+    cmask = 0
+    for j in cand:
+        cmask |= 1 << j
+    per_block = []
+    size = 1
+    for b in sorted({block_of[j] for j in cand}):
+        if maximal.get(b) is None:
+            return False
+        options = sorted({m & cmask for m in maximal[b]})
+        per_block.append(options)
+        size *= len(options)
+        if size > _FILTER_LIMIT:
+            return False
+    combos = [0]
+    for options in per_block:
+        combos = [c | m for c in combos for m in options]
+    return all(oracle.good(c) for c in combos)
+
+
+def _implicants(graph, items, i, forced_out, full, max_k_exact, run, block_of, maximal) -> tuple[list[int], bool]:
     """Minimal consistent sets of other items that imply item ``i``."""
-    per_direction: list[list[int]] = []
-    exact = True
+    directions = []
     for probe in _probes(items[i], graph.item_edges[i]):
         u, v = probe[1], probe[0]  # the item asserts u ⪯/≺ v
         cand = []
@@ -524,9 +566,17 @@ def _implicants(graph, items, i, forced_out, full, max_k_exact, run) -> tuple[li
                 continue
             if any(full.reaches(u, t) and full.reaches(h, v) for t, h, _ in graph.item_edges[j]):
                 cand.append(j)
-
         oracle = graph.oracle(cand, (probe,))
         if not oracle.good(0):
+            directions.append((cand, oracle, True))
+            continue
+        if _never_implied(oracle, cand, block_of, maximal):
+            return [], True
+        directions.append((cand, oracle, False))
+    per_direction: list[list[int]] = []
+    exact = True
+    for cand, oracle, by_base in directions:
+        if by_base:
             per_direction.append([0])
             continue
         if run.expired():

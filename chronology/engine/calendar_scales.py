@@ -6,9 +6,10 @@ subtraction.  The historical BC/AD scale has **no year 0**: 1 BC is followed
 by AD 1.  Hence ``t = y`` for AD y and ``t = 1 − y`` for y BC, and
 ``cal BP = 1950 − t`` (Stuiver & Polach 1977), so 500 BC is 2449 cal BP.
 
-A grid value ``t`` stands for the calendar year numbered ``t`` as a whole
-(a point evaluation of a density per year); labels round a fractional ``t``
-to the nearest whole year.  Conversions are for display only: store ``t``.
+A grid value ``t`` is the middle of its cell ``[t − step/2, t + step/2)``
+(the convention of ``model.py``); at a 1-year step it stands for the year
+numbered ``t``.  Labels round a fractional ``t`` to the nearest whole year.
+Conversions are for display only: store ``t``.
 """
 
 from __future__ import annotations
@@ -143,7 +144,8 @@ def round_range_outward(start: float, end: float, resolution: int = 10) -> tuple
         raise ValueError("resolution must be a positive whole number of years")
     if end < start:
         raise ValueError("start must not be later than end")
-    return _round_label(start, resolution, earlier=True), _round_label(end, resolution, earlier=False)
+    return (_round_label(start, resolution, earlier=True),
+            _round_label(end, resolution, earlier=False))
 
 
 def _round_label(t: float, res: int, *, earlier: bool) -> int:

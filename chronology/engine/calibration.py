@@ -370,7 +370,8 @@ def calibrate_many(cras, sigmas, curve: CurveOnGrid, *, offset: ReservoirOffset 
         stop = min(order.size, start + max(1, _CELLS_PER_CHUNK // int(widths[start])))
         while stop - start > 1 and (stop - start) * int(widths[stop - 1]) > 2 * _CELLS_PER_CHUNK:
             stop = start + (stop - start) // 2
-        missed += _calibrate_chunk(order[start:stop], y, s, lo, hi, curve, k, masses, labels, results)
+        missed += _calibrate_chunk(order[start:stop], y, s, lo, hi, curve, k, masses, labels,
+                                   results)
         start = stop
     if missed and on_outside == "raise":
         raise _outside_error(sorted(missed), labels, curve)
@@ -427,7 +428,8 @@ def _windows(y, s, curve: CurveOnGrid, k: float):
     return lo, hi
 
 
-def _calibrate_chunk(rows, y, s, lo, hi, curve: CurveOnGrid, k, masses, labels, results) -> list[int]:
+def _calibrate_chunk(rows, y, s, lo, hi, curve: CurveOnGrid, k, masses, labels,
+                     results) -> list[int]:
     """Fill ``results`` for ``rows``; return the rows that met the curve nowhere."""
     grid = curve.grid
     n = grid.n

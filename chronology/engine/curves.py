@@ -157,8 +157,9 @@ def _read_rows(text: str):
                         f"expected at least 3 columns (cal BP, 14C BP, sigma), found {len(tokens)}")
         bad = [i for i, v in enumerate(values) if v is None]
         if bad:
+            col = bad[0] + 1
             raise _fail("curve-bad-row", number,
-                        f"column {bad[0] + 1} is not a number: {tokens[bad[0]]!r}", column=bad[0] + 1)
+                        f"column {col} is not a number: {tokens[col - 1]!r}", column=col)
         if not all(math.isfinite(v) for v in values):
             raise _fail("curve-bad-row", number, "values must be finite numbers")
         rows.append((number, values))
@@ -283,14 +284,17 @@ def curve_grid(curve: Curve, step: float = 1.0) -> CalendarGrid:
     return CalendarGrid(first, float(step), n)
 
 
-def interpolate(curve: Curve, grid: CalendarGrid, *, outside: str = "error"):
+def interpolate(curve: Curve, grid: CalendarGrid | None = None, *, step: float = 1.0,
+                outside: str = "error"):
     """The curve's mean and one-sigma on a calendar grid, by linear interpolation.
 
     Parameters
     ----------
     curve : Curve
-    grid : CalendarGrid
-        Astronomical years; any step (1 year is the usual choice).
+    grid : CalendarGrid, optional
+        Astronomical years, any step; by default the whole curve at ``step``.
+    step : float
+        Grid spacing in years when no grid is given (default 1).
     outside : {"error", "nan"}
         What to do where the grid runs beyond the curve.
 
@@ -307,6 +311,8 @@ def interpolate(curve: Curve, grid: CalendarGrid, *, outside: str = "error"):
     """
     if outside not in ("error", "nan"):
         raise ValueError("outside must be 'error' or 'nan'")
+    if grid is None:
+        grid = curve_grid(curve, step)
     cal_bp = grid.cal_bp
     lo, hi = float(curve.cal_bp[0]), float(curve.cal_bp[-1])
     beyond = (cal_bp < lo - 1e-9) | (cal_bp > hi + 1e-9)

@@ -124,7 +124,7 @@ def radiocarbon_likelihood(grid: CalendarGrid, cra: float, sigma: float,
     offset = offset or ReservoirOffset()
     var = sigma ** 2 + curve.variance + offset.sigma ** 2
     if np.min((cra - curve.mu - offset.delta_r) ** 2 / var) > k * k:
-        raise CalibrationError(f"determination {label or cra!r} lies outside the curve on this grid",
+        raise CalibrationError(f"determination {label or cra!r} lies outside the curve on the grid",
                                code="outside-curve",
                                details={"label": label, "cra": float(cra), "curve": curve.name})
     return Likelihood("radiocarbon", values, label, grid,

@@ -8,9 +8,9 @@ as one range with its own probability.  A multimodal density gives several
 disjoint ranges; their probabilities add up to (at least) ``m``, exceeding it
 by at most the probability of the cells at the threshold.
 
-A range runs from the year of its first cell to the year of its last cell
-(grid values are point evaluations; see ``calendar_scales``), so it is exact
-to within one grid step.  Round outward for display only.
+A range runs from the grid value (cell middle) of its first cell to that of
+its last cell, so it is exact to within one grid step.  Round outward for
+display only.
 
 References
 ----------

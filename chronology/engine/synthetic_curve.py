@@ -92,7 +92,8 @@ def synthetic_curve(start_bp: float = 0.0, end_bp: float = 55000.0, step: float 
     cal_bp = start_bp + step * np.arange(n, dtype=float)
     return Curve(
         name=SYNTHETIC_NAME,
-        citation=f"{SYNTHETIC_NOTICE} Generator chronology.engine.synthetic_curve, formula version 1.",
+        citation=(f"{SYNTHETIC_NOTICE} Generator chronology.engine.synthetic_curve, "
+                  "formula version 1."),
         licence=f"{SYNTHETIC_NOTICE} Free to copy and use for testing.",
         cal_bp=np.round(cal_bp, 1),
         c14_bp=np.round(_mean(cal_bp), 1),

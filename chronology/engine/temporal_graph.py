@@ -192,9 +192,9 @@ class TemporalGraph:
     self_loops : list of tuple
         ``(node, strict, relationship ids, extra indices)`` for orderings between
         two contexts of one node.
-    equality_adj : list of list of tuple
+    equality_adj : list of sequences of tuple
         Per context index, ``(other context index, relationship id)`` for each
-        merged equality.
+        merged equality (an empty tuple when there is none).
     merged : tuple of int
         Ids of the equalities that were merged.
     pending : tuple of RelationshipData
@@ -367,6 +367,13 @@ def compile_order(
         return _compile(contexts, relationships, policy or OrderPolicy())
 
 
+def _link(adj: list, a: int, b: int, rid: int) -> None:
+    for x, y in ((a, b), (b, a)):
+        if not adj[x]:
+            adj[x] = []
+        adj[x].append((y, rid))
+
+
 def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> TemporalGraph:
     """Build the graph; ``implied`` are ids of weak relationships merged as equalities."""
     contexts = sorted(contexts, key=lambda c: c.id)
@@ -384,7 +391,9 @@ def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> Tempor
     n = len(contexts)
 
     uf = UnionFind(n)
-    equality_adj: list[list[tuple[int, int]]] = [[] for _ in range(n)]
+    # Most contexts have no equality: they share one empty tuple, and get a
+    # list of their own on their first equality.
+    equality_adj: list = [()] * n
     merged, pending, set_aside, ordered = [], [], [], []
     plain = not (policy.accept or policy.reject or policy.set_aside)
     for r in relationships:
@@ -404,8 +413,7 @@ def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> Tempor
         if a == b:
             continue
         uf.union(a, b)
-        equality_adj[a].append((b, r.id))
-        equality_adj[b].append((a, r.id))
+        _link(equality_adj, a, b, r.id)
         merged.append(r.id)
 
     index_of_rel = None
@@ -415,8 +423,7 @@ def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> Tempor
         r = index_of_rel[rid]
         a, b = index_of[r.later], index_of[r.earlier]
         uf.union(a, b)
-        equality_adj[a].append((b, r.id))
-        equality_adj[b].append((a, r.id))
+        _link(equality_adj, a, b, r.id)
     node_of = uf.labels()
     n_nodes = (max(node_of) + 1) if n else 0
     members: list[list[int]] = [[] for _ in range(n_nodes)]

@@ -53,4 +53,13 @@ def record_step(state, stdout):
     stdout.write(f"  {project.code} at revision {project.revision}; mistake refused: {bool(refused)}")
 
 
-STEPS = [record_step]
+def _steps():
+    from chronology.demo import STEPS as order_steps
+    from chronology.evidence.demo import STEPS as evidence_steps
+    from chronology.interpretations.demo import STEPS as interpretation_steps
+    from chronology.runs.demo import STEPS as run_steps
+
+    return [record_step, *order_steps, *evidence_steps, *interpretation_steps, *run_steps]
+
+
+STEPS = _steps()

@@ -109,8 +109,13 @@ def test_interpolation_onto_a_coarser_step_uses_the_same_lines():
     curve = parse_curve(TABLE)
     grid = curve_grid(curve, step=5.0)
     assert grid.n == 7
-    mu, _ = interpolate(curve, grid)
+    mu, _ = interpolate(curve, step=5.0)
     np.testing.assert_allclose(mu, [25, 23, 21, 16.5, 12, 6, 0])
+
+
+def test_default_grid_is_the_whole_curve_at_one_year():
+    mu, sigma = interpolate(parse_curve(TABLE))
+    assert mu.size == 31 and mu[0] == 25 and mu[-1] == 0
 
 
 def test_grid_beyond_the_curve_is_refused():

@@ -78,3 +78,23 @@ def test_every_vertex_is_placed_once():
     best, _ = minimise_crossings(graph, initial_order(graph, [0] * 90))
     placed = [v for layer in best for v in layer]
     assert sorted(placed) == list(range(graph.n_vertices))
+
+
+def test_sifting_never_adds_crossings_and_fixes_a_misplaced_vertex():
+    from chronology.engine.diagram.ordering import _sift
+
+    # 0-3, 1-4, 2-5 straight, but 5 starts at the far left: two crossings
+    graph = make_proper(6, [(0, 3), (1, 4), (2, 5)], [0, 0, 0, 1, 1, 1], [0] * 6, 2)
+    layers = [[0, 1, 2], [5, 3, 4]]
+    assert order_crossings(graph, layers) == 2
+    _sift(graph, layers)
+    assert order_crossings(graph, layers) == 0
+    rng = random.Random(3)
+    for seed in range(4):
+        graph, _, _ = _proper(60, seed=seed)
+        start = initial_order(graph, [0] * graph.n_real)
+        for layer in start:
+            rng.shuffle(layer)
+        before = order_crossings(graph, start)
+        _sift(graph, start)
+        assert order_crossings(graph, start) <= before

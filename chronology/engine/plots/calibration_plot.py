@@ -151,7 +151,8 @@ def calibration_plot(date: CalibratedDate, curve: CurveOnGrid, *, title: str | N
     if date.truncated:
         notes.append("The density reaches the end of the curve; part of it may lie beyond.")
     notes.append(CAUTION)
-    fig.subplots_adjust(left=0.11, right=0.97, top=0.93, bottom=0.12 + 0.035 * len(notes), hspace=0.08)
+    fig.subplots_adjust(left=0.11, right=0.97, top=0.93, bottom=0.12 + 0.035 * len(notes),
+                        hspace=0.08)
     for i, note in enumerate(notes):
         warn = note in (SYNTHETIC_WARNING, CAUTION)
         fig.text(0.02, 0.015 + 0.035 * (len(notes) - 1 - i), note, fontsize=7.5,

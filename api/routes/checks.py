@@ -1,0 +1,3 @@
+"""Project-nested routes for checks (included by api/urls.py)."""
+
+urlpatterns: list = []

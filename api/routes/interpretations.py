@@ -1,0 +1,3 @@
+"""Project-nested routes for interpretations (included by api/urls.py)."""
+
+urlpatterns: list = []

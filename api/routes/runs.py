@@ -1,0 +1,3 @@
+"""Project-nested routes for runs (included by api/urls.py)."""
+
+urlpatterns: list = []

@@ -1,0 +1,3 @@
+"""The evidence step of the demo (see projects/demo/steps.py)."""
+
+STEPS: list = []

@@ -1,0 +1,3 @@
+"""The interpretations step of the demo (see projects/demo/steps.py)."""
+
+STEPS: list = []

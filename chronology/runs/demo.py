@@ -1,0 +1,3 @@
+"""The runs step of the demo (see projects/demo/steps.py)."""
+
+STEPS: list = []
