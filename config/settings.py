@@ -152,8 +152,8 @@ SPECTACULAR_SETTINGS = {
 CACHES = {"default": {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}}
 
 # Celery: no broker means eager, in-process tasks.
-CELERY_BROKER_URL = env_str("CELERY_BROKER_URL")
-CELERY_TASK_ALWAYS_EAGER = CELERY_BROKER_URL is None
+CELERY_TASK_ALWAYS_EAGER = env_str("CELERY_BROKER_URL") is None
+CELERY_BROKER_URL = env_str("CELERY_BROKER_URL", "memory://")
 CELERY_TASK_EAGER_PROPAGATES = True
 CELERY_TASK_ACKS_LATE = True
 CELERY_TASK_REJECT_ON_WORKER_LOST = True

@@ -1,3 +1,10 @@
-"""Project-nested routes for runs (included by api/urls.py)."""
+"""Project-nested routes for model runs (included by api/urls.py)."""
 
-urlpatterns: list = []
+from rest_framework.routers import SimpleRouter
+
+from api.views.runs import RunViewSet
+
+router = SimpleRouter()
+router.register("runs", RunViewSet, basename="run")
+
+urlpatterns = router.urls

@@ -43,11 +43,11 @@ Method
 from __future__ import annotations
 
 import time
-from collections.abc import Callable, Hashable, Iterator, Sequence
+from collections.abc import Callable, Hashable, Sequence
 from dataclasses import dataclass, field
-from typing import Any
 
-from .alternatives_count import Counter, unrank
+from .alternatives_count import Counter
+from .alternatives_listing import choice_at, iter_choices
 from .alternatives_reach import _Closure, endpoint_reach
 from .alternatives_search import _BudgetExceeded, dualize, small_bad_sets
 from .errors import AlternativesInputError, SearchCancelled
@@ -190,11 +190,16 @@ def _validate(problem: AlternativesProblem) -> None:
         for e in getattr(problem, name):
             if len(e) != 2 or not all(isinstance(x, int) and 0 <= x < n for x in e):
                 raise AlternativesInputError(f"{name} entry out of range", details={"edge": list(e)})
+    seen: set = set()
     for pos, it in enumerate(problem.items):
         if not isinstance(it, Item) or it.kind not in _KINDS:
             raise AlternativesInputError("item kind must be 'equal' or 'before'", details={"item": pos})
         if not all(isinstance(x, int) and 0 <= x < n for x in (it.a, it.b)):
             raise AlternativesInputError("item endpoint out of range", details={"item": pos})
+        # Choices are reported as sets of refs, so refs must tell items apart.
+        if it.ref in seen:
+            raise AlternativesInputError("item refs must be distinct", details={"item": pos})
+        seen.add(it.ref)
 
 
 class _Graph:
@@ -216,25 +221,6 @@ class _Graph:
             else:
                 self.item_edges.append([(a, b, bool(it.strict))])
         self.calls = 0
-
-    def closure(self, mask: int, extra: Sequence[tuple[int, int, bool]] = ()) -> _Closure:
-        cl = self.base.copy()
-        m = mask
-        while m and cl.ok:
-            low = m & -m
-            for u, v, s in self.item_edges[low.bit_length() - 1]:
-                if not cl.add_edge(u, v, s):
-                    break
-            m ^= low
-        for u, v, s in extra:
-            if not cl.ok:
-                break
-            cl.add_edge(u, v, s)
-        return cl
-
-    def consistent(self, mask: int, extra: Sequence[tuple[int, int, bool]] = ()) -> bool:
-        self.calls += 1
-        return self.closure(mask, extra).ok
 
     def oracle(self, universe: Sequence[int], extra: Sequence[tuple[int, int, bool]] = ()) -> "_Oracle":
         """Consistency oracle restricted to the endpoints of ``universe``.
@@ -290,7 +276,11 @@ class _Oracle:
         m = mask
         while m and cl.ok:
             low = m & -m
-            self._add(cl, low.bit_length() - 1)
+            i = low.bit_length() - 1
+            if cl.can_add(self.edges[i]):
+                self._add(cl, i)
+            else:
+                cl.ok = False
             m ^= low
         return cl
 
@@ -304,10 +294,9 @@ class _Oracle:
         for i in self.universe:
             if mask >> i & 1:
                 continue
-            trial = cl.copy()
             self.graph.calls += 1
-            if self._add(trial, i):
-                cl = trial
+            if cl.can_add(self.edges[i]):
+                self._add(cl, i)
                 mask |= 1 << i
         return mask
 
@@ -682,75 +671,3 @@ def _assemble(items, conflicts, implications, forced_out, implied_by_base, run) 
         items=reports,
         seconds=0.0,
     )
-
-
-# --------------------------------------------------------------------------
-# listing
-
-
-class _Lister:
-    """Index → choice over the mixed-radix product of the groups."""
-
-    def __init__(self, result: AlternativesResult, cache_limit: int = 4096):
-        self.result = result
-        self.counter = Counter()
-        self.groups = []
-        for g in result.groups:
-            conflicts = []
-            for c in g.conflicts:
-                m = 0
-                for i in c:
-                    m |= 1 << i
-                conflicts.append(m)
-            cache = None
-            if g.consistent_count <= cache_limit:
-                cache = [unrank(self.counter, list(g.items), conflicts, j) for j in range(g.consistent_count)]
-            self.groups.append((list(g.items), conflicts, g.consistent_count, cache))
-
-    def mask_at(self, index: int) -> int:
-        mask = 0
-        # The last group is the fastest-moving digit.
-        for items, conflicts, count, cache in reversed(self.groups):
-            index, digit = divmod(index, count)
-            mask |= cache[digit] if cache is not None else unrank(self.counter, items, conflicts, digit)
-        return mask
-
-
-def _refs(result: AlternativesResult, mask: int) -> frozenset:
-    return frozenset(result.items[i].ref for i in _masks_to_items(mask))
-
-
-def iter_choices(result: AlternativesResult, offset: int = 0, limit: int | None = None) -> Iterator[frozenset]:
-    """Yield consistent choices (frozensets of refs) in a stable order.
-
-    Choice ``j`` is the mixed-radix number whose digits are the groups'
-    choices (the first group most significant); within a group, choices are
-    ordered by deciding its items in index order, rejection first.  So choice
-    0 accepts nothing, and ``iter_choices(r, offset, limit)`` equals the slice
-    ``[offset:offset+limit]`` of the full listing without computing the
-    choices before ``offset``.
-
-    Parameters
-    ----------
-    result : AlternativesResult
-        An exact result of :func:`analyse_alternatives` (an inexact one lists
-        a superset of the consistent choices).
-    offset, limit : int
-        Page to yield; ``limit=None`` runs to the end.
-    """
-    if offset < 0 or (limit is not None and limit < 0):
-        raise AlternativesInputError("offset and limit must be non-negative")
-    total = result.consistent_count
-    stop = total if limit is None else min(total, offset + limit)
-    if offset >= stop:
-        return
-    lister = _Lister(result)
-    for index in range(offset, stop):
-        yield _refs(result, lister.mask_at(index))
-
-
-def choice_at(result: AlternativesResult, index: int) -> frozenset:
-    """The ``index``-th consistent choice of :func:`iter_choices`' order."""
-    if not 0 <= index < result.consistent_count:
-        raise AlternativesInputError("choice index out of range", details={"index": index})
-    return _refs(result, _Lister(result, cache_limit=0).mask_at(index))

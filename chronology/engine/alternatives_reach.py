@@ -116,6 +116,26 @@ class _Closure:
                 self.ok = False
         return self.ok
 
+    def can_add(self, edges: list[tuple[int, int, bool]]) -> bool:
+        """Whether adding one item (one edge, or the two weak edges of an
+        equality) keeps this consistent closure consistent, in O(1).
+
+        Every new closed walk passes through a new edge, and the stretches
+        between new edges are old paths, so it is enough to look at the old
+        reach from each new edge's head back to its tail.
+        """
+        if not self.ok:
+            return False
+        if len(edges) == 1:
+            u, v, strict = edges[0]
+            if u == v:
+                return not strict
+            if not self.reach[v] >> u & 1:
+                return True
+            return not strict and not self.strict[v] >> u & 1
+        (a, b, _), _ = edges
+        return not (self.strict[a] >> b & 1 or self.strict[b] >> a & 1)
+
     def reaches(self, x: int, y: int) -> bool:
         return x == y or bool(self.reach[x] >> y & 1)
 

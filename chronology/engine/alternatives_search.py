@@ -37,17 +37,28 @@ def _minimise(sets: list[int]) -> list[int]:
 
 
 def _berge_add(transversals: list[int], edge: int) -> list[int]:
-    """Minimal transversals after adding ``edge`` to the hypergraph (Berge 1989)."""
+    """Minimal transversals after adding ``edge`` to the hypergraph (Berge 1989).
+
+    A grown set ``t | b`` (``t`` missing the edge) is redundant only if some
+    old transversal that hits the edge is inside it; such a transversal must
+    hold ``b`` (any other would lie inside ``t``, against ``t``'s
+    minimality), so the test looks only at transversals holding ``b``, and
+    two grown sets can only nest when they were grown by different bits.
+    """
     hit = [t for t in transversals if t & edge]
-    grown: list[int] = []
     bits = [1 << i for i in range(edge.bit_length()) if edge >> i & 1]
+    by_bit = {b: [h for h in hit if h & b] for b in bits}
+    grown_by_bit: dict[int, list[int]] = {}
     for t in transversals:
         if t & edge:
             continue
         for b in bits:
             cand = t | b
-            if not any(h & cand == h for h in hit):
-                grown.append(cand)
+            if not any(h & cand == h for h in by_bit[b]):
+                grown_by_bit.setdefault(b, []).append(cand)
+    grown = [g for lst in grown_by_bit.values() for g in lst]
+    if len(grown_by_bit) <= 1:
+        return hit + grown
     return hit + _minimise(grown)
 
 

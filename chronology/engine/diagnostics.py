@@ -9,7 +9,7 @@ draw (R-hat undefined) are reported with NaN and do not fail the verdict.
 
 Draws are held in an :class:`arviz.InferenceData` whose ``posterior`` group
 has ``date`` (chain, draw, event), ``outlier`` (chain, draw, determination)
-and ``question`` (chain, draw, question) variables, stored as NetCDF with the
+and ``derived`` (chain, draw, question) variables, stored as NetCDF with the
 h5netcdf engine.
 """
 
@@ -46,7 +46,7 @@ DIAGNOSTICS_METHOD = (
 
 @dataclass(frozen=True)
 class QuantityDiagnostics:
-    """Diagnostics of one reported quantity (``group`` is date, outlier or question)."""
+    """Diagnostics of one reported quantity (``group`` is date, outlier or derived)."""
 
     group: str
     name: str
@@ -115,7 +115,7 @@ def to_inference_data(
         data["outlier"] = (("chain", "draw", "determination"), np.asarray(outliers, dtype=np.int8))
     if questions is not None and len(question_keys):
         coords["question"] = list(question_keys)
-        data["question"] = (("chain", "draw", "question"), np.asarray(questions, dtype=float))
+        data["derived"] = (("chain", "draw", "question"), np.asarray(questions, dtype=float))
     ds = xr.Dataset(data, coords=coords, attrs={k: str(v) for k, v in (attrs or {}).items()})
     return az.InferenceData(posterior=ds)
 
@@ -167,7 +167,7 @@ def diagnose(idata: az.InferenceData, probability_questions: Sequence[str] = ())
     ds = idata.posterior
     items: list[QuantityDiagnostics] = []
     probs = set(probability_questions)
-    for var, dim in (("date", "event"), ("outlier", "determination"), ("question", "question")):
+    for var, dim in (("date", "event"), ("outlier", "determination"), ("derived", "question")):
         if var not in ds:
             continue
         arr = ds[var].astype(float)

@@ -114,15 +114,25 @@ def reduced_edge_mask(graph: TemporalGraph) -> list[bool]:
     return keep
 
 
-def _direct_path(graph: TemporalGraph, keep: list[bool], pos: list[int], e0: int) -> list[int]:
-    """Edges of a path of direct edges from the earlier to the later end of ``e0``.
+def _direct_path(graph: TemporalGraph, keep: list[bool], pos: list[int], e0: int,
+                 direct_into: dict[int, int]) -> list[int]:
+    """Edges of a shortest path of direct edges from the earlier to the later end of ``e0``.
 
-    BFS over kept edges, pruned to topological positions before the target.
-    Returned later end first, for :func:`chain_steps`.
+    Most redundant relationships skip one unit, so a path of two direct edges
+    is looked up first (``direct_into`` maps ``earlier * n + later`` of each
+    kept edge to its index); otherwise a BFS over kept edges, pruned to
+    topological positions before the target.  Returned later end first, for
+    :func:`chain_steps`.
     """
     src, dst = graph.edge_earlier[e0], graph.edge_later[e0]
-    limit = pos[dst]
     el = graph.edge_later
+    n = graph.n_nodes
+    for e in graph.succ[src]:
+        if keep[e]:
+            second = direct_into.get(el[e] * n + dst)
+            if second is not None:
+                return [second, e]
+    limit = pos[dst]
     back = {src: None}
     queue = deque([src])
     while queue:
@@ -194,10 +204,13 @@ def _reduce(graph: TemporalGraph, explain: bool) -> Reduction:
         for i, v in enumerate(order):
             pos[v] = i
         index_of = graph.index_of
+        n = graph.n_nodes
+        ee, el = graph.edge_earlier, graph.edge_later
+        direct_into = {ee[e] * n + el[e]: e for e in direct_edges}
         for e, k in enumerate(keep):
             if k:
                 continue
-            chain = _direct_path(graph, keep, pos, e)
+            chain = _direct_path(graph, keep, pos, e, direct_into)
             for rid in graph.edge_relationships[e]:
                 rel = graph.relationships[rid]
                 steps = chain_steps(graph, chain, start=index_of[rel.later], end=index_of[rel.earlier])

@@ -14,8 +14,11 @@ releases the GIL).  One sweep updates, in model order:
 * undated events uniformly on ``[lo, hi]``;
 * boundaries by slice sampling with shrinkage from ``[lo, hi]`` (Neal 2003,
   §4) on their span-prior conditional (:mod:`chronology.engine.priors`);
-* each phase, shifted as a block (members and boundaries) by a slice-sampled
-  offset inside the range the other events allow (Neal 2003);
+* each phase as a block (members and boundaries): a shift, then a scaling
+  about its boundary midpoint, each by random-walk Metropolis (Metropolis
+  et al. 1953) with a proposal scale tuned toward acceptance 0.44 during
+  warm-up only (Robbins-Monro); the scale move includes its Jacobian
+  ``c^(k-1)`` along the scale group (Liu & Sabatti 2000);
 * every outlier indicator by Gibbs with its shift integrated out (Christen
   1994): the outlier component is the broader likelihood array supplied.
 
@@ -37,7 +40,7 @@ from typing import Callable
 import numpy as np
 from numba import njit
 
-from chronology.engine.errors import ModelError, SamplingCancelled
+from chronology.engine.errors import SamplingCancelled
 from chronology.engine.model import Model
 from chronology.engine.model_compiler import feasible_bounds
 from chronology.engine.priors import prior_structure
@@ -55,11 +58,14 @@ __all__ = [
 
 SAMPLER_METHOD = (
     "Metropolis-within-Gibbs: inverse-CDF Gibbs for dated events, slice sampling (Neal 2003) "
-    "for boundaries and whole-phase shifts, outlier indicators by Gibbs (Christen 1994); "
+    "for boundaries, Metropolis whole-phase shift and scale moves, outlier indicators by Gibbs "
+    "(Christen 1994); "
     "uniform-span boundary prior (Nicholls & Jones 2001)"
 )
 
 _DATED, _UNDATED, _BOUNDARY = 0, 1, 2
+#: shift and scale proposals per phase per sweep
+BLOCK_REPEATS = 1
 _KIND_CODE = {"dated": _DATED, "undated": _UNDATED, "boundary": _BOUNDARY}
 
 
@@ -434,50 +440,27 @@ def _block_logdens(mode, prm, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind
 
 
 @njit(cache=True, nogil=True)
-def _block_slice(mode, w, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
-                 succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
-                 phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                 prior_active, L, U, R, left, step, G, rng):
-    """Slice sampling with stepping out and shrinkage (Neal 2003, Figs 3 and 5) of a block move."""
-    g0 = _block_logdens(mode, 0.0, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
-                        succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
-                        phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                        prior_active, L, U, R, left, step, G)
-    if not g0 > -np.inf:
-        return
-    y = g0 + np.log(_uniform(rng))
-    a = -w * _uniform(rng)
-    b = a + w
-    J = int(np.floor(8 * _uniform(rng)))
-    K = 7 - J
-    while J > 0 and _block_logdens(mode, a, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
-                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
-                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                                   prior_active, L, U, R, left, step, G) > y:
-        a -= w
-        J -= 1
-    while K > 0 and _block_logdens(mode, b, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
-                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
-                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                                   prior_active, L, U, R, left, step, G) > y:
-        b += w
-        K -= 1
-    for _ in range(60):
-        d = a + _uniform(rng) * (b - a)
-        g = _block_logdens(mode, d, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
-                           succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
-                           phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                           prior_active, L, U, R, left, step, G)
-        if g > y:
-            return
-        if d < 0:
-            a = d
-        else:
-            b = d
-    _block_logdens(mode, 0.0, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
-                   succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
-                   phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                   prior_active, L, U, R, left, step, G)
+def _block_mh(mode, tau, pivot, g0, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+              succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+              phase_start, phase_end, phase_n, block_first, block_last, block_k,
+              prior_active, L, U, R, left, step, G, rng):
+    """Random-walk Metropolis on the block parameter (shift or log scale).
+
+    ``g0`` is the block's log density at the current state without the scale
+    Jacobian; returns (accepted, log density of the state kept).
+    """
+    # Box-Muller normal proposal
+    z = np.sqrt(-2.0 * np.log(_uniform(rng))) * np.cos(2.0 * np.pi * _uniform(rng))
+    d = tau * z
+    g = _block_logdens(mode, d, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                       succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                       phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                       prior_active, L, U, R, left, step, G)
+    if g > -np.inf and np.log(_uniform(rng)) < g - g0:
+        return True, g - (s1 - s0 - 1) * d if mode == 1 else g
+    for j in range(s0, s1):
+        x[shift_idx[j]] = xs[shift_idx[j]]
+    return False, g0
 
 
 @njit(cache=True, nogil=True)
@@ -487,7 +470,7 @@ def _sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos
                  phase_start, phase_end, phase_n, shift_ptr, shift_idx,
                  block_first, block_last, block_k,
                  node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                 prior_active, L, U, left, step, it0, block_every):
+                 prior_active, L, U, left, step, it0, block_every, log_tau):
     N = x.shape[0]
     G = static_ll.shape[1]
     R = U - L
@@ -541,19 +524,26 @@ def _sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos
             for j in range(s0, s1):
                 mark[shift_idx[j]] = stamp
                 xs[shift_idx[j]] = x[shift_idx[j]]
-            for mode in range(2):
+            for j in range(s0, s1):
+                xs[shift_idx[j]] = x[shift_idx[j]]
+            g = _block_logdens(0, 0.0, 0.0, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
+                               succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
+                               phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                               prior_active, L, U, R, left, step, G)
+            for move in range(2 * BLOCK_REPEATS):
+                mode = move % 2
                 # the scale pivot is the current midpoint, which scaling leaves in place
                 pivot = 0.5 * (x[phase_end[p]] + x[phase_start[p]])
-                if mode == 0:
-                    w = x[phase_end[p]] - x[phase_start[p]] + 10.0 * step
-                else:
-                    w = 0.3
-                    for j in range(s0, s1):
-                        xs[shift_idx[j]] = x[shift_idx[j]]
-                _block_slice(mode, w, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
-                             pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
-                             phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                             prior_active, L, U, R, left, step, G, rng)
+                for j in range(s0, s1):
+                    xs[shift_idx[j]] = x[shift_idx[j]]
+                t = np.exp(log_tau[p, mode])
+                ok, g = _block_mh(mode, t, pivot, g, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
+                                  pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
+                                  phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                                  prior_active, L, U, R, left, step, G, rng)
+                if it < record_from:
+                    # Robbins-Monro tuning toward acceptance 0.44, during warm-up only
+                    log_tau[p, mode] += (1.0 / np.sqrt(1.0 + it)) * ((1.0 if ok else 0.0) - 0.44)
         # --- outlier indicators (Christen 1994), shift integrated out ---------
         for d in range(det_node.shape[0]):
             v = det_node[d]
@@ -726,13 +716,20 @@ def run_chain(
     out_phi = np.empty((n_keep, nd), dtype=np.int8)
     total = warmup + iterations
     args = _kernel_args(f)
+    # initial block proposal scales: a tenth of the phase's feasible room, and 10% in scale
+    n_ph = f.phase_start.shape[0]
+    log_tau = np.zeros((n_ph, 2))
+    for p in range(n_ph):
+        room = max(f.latest[f.phase_start[p]] - f.earliest[f.phase_start[p]], f.step)
+        log_tau[p] = (np.log(0.1 * room), np.log(0.1))
     done, pos = 0, 0
     t0 = time.perf_counter()
     while done < total:
         if cancel is not None and cancel():
             raise SamplingCancelled("sampling was cancelled", details={"chain": chain, "iterations_done": done})
         step_n = min(check_every, total - done)
-        pos = _sweep_block(step_n, warmup, thin, x, phi, state, out_x, out_phi, pos, *args, done, block_every)
+        pos = _sweep_block(step_n, warmup, thin, x, phi, state, out_x, out_phi, pos, *args, done, block_every,
+                           log_tau)
         done += step_n
         if progress is not None:
             progress(done)

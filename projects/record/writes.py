@@ -80,6 +80,11 @@ def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
         name = sorted(unknown)[0]
         raise RecordInvalid(f"{name!r} is not a context attribute", field=name, code="unknown-field")
     cleaned = {}
+    # Batch items reach here without a serializer, so types are checked here too.
+    for name in ("label", "kind", "description", "area"):
+        value = fields.get(name)
+        if value is not None and not isinstance(value, str) and not (name == "label" and _is_int(value)):
+            raise RecordInvalid(f"{name} must be text", field=name, code="invalid-type")
     if "label" in fields or not partial:
         label = str(fields.get("label") or "").strip()
         if not label:
@@ -111,11 +116,17 @@ def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
                 if not math.isfinite(value):
                     raise RecordInvalid(f"{name} must be finite", field=name, code="invalid-number")
             cleaned[name] = value
-    top = cleaned.get("top_level")
-    base = cleaned.get("base_level")
+    _check_levels(cleaned.get("top_level"), cleaned.get("base_level"))
+    return cleaned
+
+
+def _is_int(value) -> bool:
+    return isinstance(value, int) and not isinstance(value, bool)
+
+
+def _check_levels(top, base) -> None:
     if top is not None and base is not None and base > top:
         raise RecordInvalid("the base level lies above the top level", field="base_level", code="levels-inverted")
-    return cleaned
 
 
 def _active_context(project: Project, ref, field: str) -> Context:
@@ -196,6 +207,8 @@ def edit_context(project: Project, actor: Actor, context_id: int, changes_: dict
         if not ctx.is_active:
             raise RecordConflict("a retracted context cannot be edited", code="retracted")
         cleaned = _clean_context_fields(changes_, partial=True)
+        # A partial edit must agree with the level it leaves unchanged.
+        _check_levels(cleaned.get("top_level", ctx.top_level), cleaned.get("base_level", ctx.base_level))
         if "label" in cleaned and cleaned["label"] != ctx.label:
             clash = Context.objects.filter(
                 project=changes.project, label=cleaned["label"], retracted_revision__isnull=True
@@ -271,6 +284,8 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     if certainty not in Certainty.values:
         raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
     note = data.get("note") or ""
+    if not isinstance(note, str):
+        raise RecordInvalid("note must be text", field="note", code="invalid-type")
     uid = _parse_uid(data.get("uid"))
     subject, obj = _two_contexts(project, data.get("subject"), data.get("object"))
     if subject.pk == obj.pk:

@@ -228,7 +228,16 @@ def test_paging_returns_the_same_choices_as_full_listing():
     for offset in range(0, len(full), 7):
         pages.extend(iter_choices(res, offset=offset, limit=7))
     assert pages == full
-    assert choice_at(res, len(full) - 1) == full[-1]
+
+
+def test_choice_at_agrees_with_listing_without_caching():
+    rng = random.Random(11)
+    p = _random_problem(rng, 9, 10)
+    res = analyse_alternatives(p)
+    full = list(iter_choices(res))
+    assert [choice_at(res, j) for j in range(len(full))] == full
+    with pytest.raises(AlternativesInputError):
+        choice_at(res, len(full))
 
 
 def test_paging_deep_into_a_million_choices_is_direct():
@@ -287,6 +296,12 @@ def test_cyclic_base_is_refused():
 def test_out_of_range_item_is_refused():
     with pytest.raises(AlternativesInputError):
         analyse_alternatives(AlternativesProblem(2, [], [Item("equal", 0, 5)]))
+
+
+def test_repeated_ref_is_refused():
+    items = [Item("equal", 0, 1, ref=5), Item("before", 1, 0, ref=5)]
+    with pytest.raises(AlternativesInputError):
+        analyse_alternatives(AlternativesProblem(2, [], items))
 
 
 # --------------------------------------------------------------------------

@@ -57,3 +57,15 @@ def test_prior_only_chain_gives_a_uniform_span():
     r = run_chain(m, chain_seeds(7, 1)[0], iterations=60000, warmup=1000, thin=20)
     span = r.draws[:, 1] - r.draws[:, 0]
     assert stats.kstest(span / 1000.0, "uniform").pvalue > 1e-3
+
+
+@pytest.mark.parametrize("arrangement", ["contiguous", "sequential"])
+def test_prior_only_chain_of_two_phases_has_a_uniform_total_span(arrangement):
+    # Nicholls & Jones (2001): the total span S of linked phases is U(0, R) under their prior;
+    # scipy.stats.kstest on thinned MCMC draws
+    m = compile_model(GRID, phases=[PhaseInput("A", (1, 2), arrangement), PhaseInput("B", (3, 4))],
+                      order=[], evidence=[], range_lo=0.0, range_hi=1000.0, prior_only=True)
+    r = run_chain(m, chain_seeds(9, 1)[0], iterations=60000, warmup=1000, thin=20)
+    keys = m.event_keys
+    total = r.draws[:, keys.index(m.phase("B").end)] - r.draws[:, keys.index(m.phase("A").start)]
+    assert stats.kstest(total / 1000.0, "uniform").pvalue > 1e-3

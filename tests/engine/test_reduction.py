@@ -88,3 +88,16 @@ def test_reduction_without_explanations_lists_the_same_relationships():
     full, quick = reduce_order(g), reduce_order(g, explain=False)
     assert [r.id for r in full.redundant] == [r.id for r in quick.redundant]
     assert full.direct_edges == quick.direct_edges
+
+
+def test_generated_site_is_deterministic_consistent_and_partly_redundant():
+    first, second = generate_site(2000, seed=9), generate_site(2000, seed=9)
+    assert first == second
+    assert generate_site(2000, seed=10) != first
+    g = compile_order(*first)
+    reduction = reduce_order(g, explain=False)
+    share = len(reduction.redundant) / len(first.relationships)
+    assert 0.2 <= share <= 0.4
+    equalities = sum(r.type == "same_as" for r in first.relationships)
+    assert 0.005 <= equalities / len(first.contexts) <= 0.03
+    assert len({c.area for c in first.contexts}) == 3

@@ -149,3 +149,17 @@ def test_progress_is_reported_and_cancel_stops_the_chain(one_phase):
     with pytest.raises(SamplingCancelled):
         run_chain(m, chain_seeds(1, 1)[0], iterations=300, warmup=100, check_every=100,
                   cancel=lambda: len(seen) > 4, progress=seen.append)
+
+
+def test_residual_sample_stays_older_than_its_context():
+    # a residual sample only bounds its context from below (Bronk Ramsey 2009b, one-sided offset)
+    m = compile_model(GRID, phases=[PhaseInput("P", ("x", "y"))], order=[],
+                      evidence=[EvidenceInput("VXL-0501", "x", normal_ll(500)),
+                                EvidenceInput("VXL-0502", "y", normal_ll(300), usage="residual"),
+                                EvidenceInput("VXL-0503", "y", normal_ll(520))],
+                      range_lo=L, range_hi=U)
+    r = run_chain(m, chain_seeds(4, 1)[0], iterations=3000, warmup=300)
+    k = m.event_keys
+    sample, ctx = r.draws[:, k.index("sample:VXL-0502")], r.draws[:, k.index("ctx:y")]
+    assert (sample <= ctx).all()
+    assert abs(np.median(sample) - 300) < 30 and abs(np.median(ctx) - 515) < 30

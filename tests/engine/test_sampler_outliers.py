@@ -37,14 +37,14 @@ def test_boundary_ranges_cover_the_truth_at_about_the_nominal_rate():
     assert hits > 68
 
 
-def _phase_with_planted_outlier(outlier_model: bool):
+def _phase_with_planted_outlier(robust: bool):
     ys = [480.0, 500.0, 495.0, 515.0, 505.0, 490.0, 510.0, 520.0, 850.0]
     ev = []
     for i, y in enumerate(ys):
-        ev.append(EvidenceInput(f"VXL-06{i:02d}", i, normal_ll(y), outlier_prior=0.1 if outlier_model else 0.0,
+        ev.append(EvidenceInput(f"VXL-06{i:02d}", i, normal_ll(y), outlier_prior=0.1 if robust else 0.0,
                                 # shift ~ N(0, 250^2) integrated out: a broader normal (Christen 1994)
                                 outlier_loglik=normal_ll(y, np.hypot(SIGMA, 250.0)) - np.log(np.hypot(SIGMA, 250.0) / SIGMA)
-                                if outlier_model else None))
+                                if robust else None))
     return compile_model(GRID, phases=[PhaseInput("P", tuple(range(len(ys))))], order=[], evidence=ev,
                          range_lo=0.0, range_hi=1000.0)
 

@@ -17,7 +17,6 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
 
 from chronology.engine.calendar_scales import format_year  # noqa: E402
@@ -31,13 +30,41 @@ _POSTERIOR = {"dated": "#0072B2", "undated": "#009E73", "boundary": "#D55E00"}
 _LIKELIHOOD = "#7F7F7F"
 
 
+def _row_order(model: Model, summary: PosteriorSummary) -> list:
+    """Events in the model's order: each phase as start, members, end; offset samples
+    beside their context; events outside every phase last."""
+    by_key = {e.key: e for e in summary.events}
+    offsets: dict = {}
+    for e in model.events:
+        if e.offset_of:
+            offsets.setdefault(e.offset_of, []).append(e.key)
+    keys: list = []
+
+    def add(k):
+        if k not in keys:
+            keys.append(k)
+            for o in offsets.get(k, ()):
+                add(o)
+
+    for p in model.phases:
+        add(p.start)
+        for k in p.members:
+            add(k)
+        add(p.end)
+    for e in model.events:
+        add(e.key)
+    return [by_key[k] for k in keys if k in by_key]
+
+
 def posterior_figure(model: Model, summary: PosteriorSummary) -> Figure:
-    """A matplotlib Figure of the stacked posteriors of ``summary``."""
+    """A matplotlib Figure of the stacked posteriors of ``summary``, earliest phase on top."""
     years = model.grid.years
-    rows = list(summary.events)
+    rows = _row_order(model, summary)
     n = len(rows)
-    fig = plt.figure(figsize=(8.0, 1.2 + 0.42 * n + 1.1))
-    ax = fig.add_axes([0.30, 1.1 / (1.2 + 0.42 * n + 1.1), 0.66, 0.42 * n / (1.2 + 0.42 * n + 1.1)])
+    top, bottom = 0.25, 1.45
+    height = top + 0.42 * n + bottom
+    fig = plt.figure(figsize=(8.0, height))
+    ax = fig.add_axes([0.24, bottom / height, 0.72, 0.42 * n / height])
     lo, hi = model.range_hi, model.range_lo
     for e in rows:
         for r in e.hpd[0.954]:
@@ -48,8 +75,10 @@ def posterior_figure(model: Model, summary: PosteriorSummary) -> Figure:
         base = n - 1 - i
         colour = _POSTERIOR.get(e.kind, "#0072B2")
         if e.likelihood is not None and e.likelihood.max() > 0:
-            lik = e.likelihood / e.likelihood.max() * 0.8
-            ax.plot(years, base + 0.12 + lik, color=_LIKELIHOOD, lw=0.8, ls=(0, (3, 1.5)), zorder=1)
+            lik = e.likelihood / e.likelihood.max()
+            shown = lik > 1e-3  # no line along the baseline where the likelihood is negligible
+            ax.plot(years[shown], base + 0.12 + 0.8 * lik[shown], color=_LIKELIHOOD, lw=0.8,
+                    ls=(0, (3, 1.5)), zorder=1)
         if e.density.max() > 0:
             d = e.density / e.density.max() * 0.8
             ax.fill_between(years, base + 0.12, base + 0.12 + d, color=colour, alpha=0.55, lw=0, zorder=2)
@@ -75,7 +104,7 @@ def posterior_figure(model: Model, summary: PosteriorSummary) -> Figure:
         f"Run: {summary.run_id or 'not stored'}.  Dashed grey: unmodelled likelihood; "
         f"filled: posterior; bar: 95.4% highest-density range.  {summary.caution}"
     )
-    fig.text(0.02, 0.01, "\n".join(textwrap.wrap(footer, 150)), fontsize=6, va="bottom", ha="left")
+    fig.text(0.02, 0.02, "\n".join(textwrap.wrap(footer, 150)), fontsize=6, va="bottom", ha="left")
     return fig
 
 

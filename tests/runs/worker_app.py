@@ -1,0 +1,28 @@
+"""The Celery app a test worker runs: the project's app with short redelivery times.
+
+A chain's message is acknowledged late; after a worker dies, Redis hands it
+out again once its visibility timeout has passed, and a chain whose
+heartbeat is older than ``TELLSTACK_RUN_STALE_SECONDS`` is taken over.  Both
+are shortened here so the worker tests finish in seconds.
+"""
+
+import os
+
+os.environ.setdefault("DJANGO_SETTINGS_MODULE", "config.settings")
+
+import django  # noqa: E402
+
+django.setup()
+
+from django.conf import settings  # noqa: E402
+
+from config.celery import app  # noqa: E402
+
+settings.TELLSTACK_RUN_STALE_SECONDS = float(os.environ.get("TELLSTACK_RUN_STALE_SECONDS", "3"))
+app.conf.broker_transport_options = {
+    "visibility_timeout": float(os.environ.get("TELLSTACK_TEST_VISIBILITY_TIMEOUT", "6")),
+    "unacked_restore_interval": 1,
+    "unacked_restore_throttle": 1,
+}
+
+__all__ = ["app"]
