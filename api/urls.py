@@ -4,6 +4,7 @@ from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 from rest_framework.routers import DefaultRouter, SimpleRouter
 
+from api.routes.evidence import global_urlpatterns as evidence_global
 from api.views import health, record, tenancy
 
 root = DefaultRouter()
@@ -29,6 +30,7 @@ project_urlpatterns = [
 
 urlpatterns = [
     path("v1/", include(root.urls)),
+    path("v1/", include(evidence_global)),
     path("v1/projects/<str:project>/", include(project_urlpatterns)),
     path("v1/health/", health.health, name="health"),
     path("v1/schema/", SpectacularAPIView.as_view(), name="schema"),

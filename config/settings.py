@@ -149,6 +149,9 @@ SPECTACULAR_SETTINGS = {
     "COMPONENT_SPLIT_REQUEST": True,
 }
 
+#: Calendar grid step (years) for calibration and models.
+TELLSTACK_CALIBRATION_STEP = float(env_str("TELLSTACK_CALIBRATION_STEP", "1"))
+
 CACHES = {"default": {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}}
 
 # Celery: no broker means eager, in-process tasks.

@@ -37,6 +37,12 @@ def _tasks_in_process(request):
 
 
 @pytest.fixture(autouse=True)
+def _fast_password_hashing(settings):
+    # Test users need no strong hashing; it costs a third of a second per user.
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+
+
+@pytest.fixture(autouse=True)
 def _fresh_order_cache():
     order_cache.forget()
     yield

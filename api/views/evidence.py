@@ -197,6 +197,7 @@ class SampleViewSet(_EvidenceViewSet):
     """Samples taken from contexts."""
 
     kind = "sample"
+    serializer_class = SampleOut  # documents the responses
     input_class = SampleInput
     add = staticmethod(writes.add_sample)
     filters = {"context": "context_id", "code": "code"}
@@ -220,6 +221,7 @@ class DeterminationViewSet(_EvidenceViewSet):
     """Radiocarbon determinations on samples, with their calibration and plot."""
 
     kind = "determination"
+    serializer_class = DeterminationOut  # documents the responses
     input_class = DeterminationInput
     add = staticmethod(writes.add_determination)
     filters = {"sample": "sample_id", "lab_code": "lab_code", "curve": "curve_id"}
@@ -261,6 +263,7 @@ class CalendarDateViewSet(_EvidenceViewSet):
     """Calendar dates (tree-ring, documentary...) of samples or contexts."""
 
     kind = "calendar_date"
+    serializer_class = CalendarDateOut  # documents the responses
     input_class = CalendarDateInput
     add = staticmethod(writes.add_calendar_date)
     filters = {"sample": "sample_id", "context": "context_id", "kind": "kind"}
@@ -271,6 +274,7 @@ class TerminusViewSet(_EvidenceViewSet):
     """Termini post quem and ante quem from datable finds."""
 
     kind = "terminus"
+    serializer_class = TerminusOut  # documents the responses
     input_class = TerminusInput
     add = staticmethod(writes.add_terminus)
     filters = {"context": "context_id", "kind": "kind"}

@@ -15,6 +15,7 @@ import numpy as np
 
 from chronology.engine.curves import curve_to_csv, interpolate
 from chronology.engine.grid import CalendarGrid
+from chronology.engine.plots.calibration_plot import calibration_plot
 from chronology.engine.radiocarbon import f14c_from_cra
 from chronology.engine.synthetic_curve import SYNTHETIC_NOTICE, synthetic_curve
 from projects.demo.load import uid_for
@@ -135,7 +136,7 @@ def evidence_step(state, stdout):
         summary.update(sample=sample.code, context=context_of[sample.code], material=sample.material,
                        short_lived=sample.short_lived, measured=det.measured, f14c=det.f14c, f14c_sigma=det.f14c_sigma)
         rows.append(summary)
-        images = calibrate.calibration_plot(date, grid_curve, title=(
+        images = calibration_plot(date, grid_curve, title=(
             f"{m.label} (sample {sample.code}, context {context_of[sample.code]}): {m.cra:.0f} ± {m.sigma:.0f} BP"))
         _write(state, f"evidence-plots/{m.label}.svg", images.svg)
         _write(state, f"evidence-plots/{m.label}.png", images.png)

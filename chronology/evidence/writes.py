@@ -458,3 +458,19 @@ def retract_evidence(project: Project, actor: Actor, kind: str, object_id: int, 
                     _retract(changes, "calendar_date", cd, linked)
             _retract(changes, kind, obj, reason)
     return WriteResult(obj, False, project.revision)
+
+
+def retract_for_context(changes: ChangeSet, context, reason: str) -> None:
+    """Retract, in ``changes``, all active evidence of a context being retracted."""
+    linked = f"context {context.label} retracted: {reason}"
+    for sample in Sample.objects.filter(context=context, retracted_revision__isnull=True):
+        for det in Determination.objects.filter(sample=sample, retracted_revision__isnull=True).select_related(
+                "curve", "marine_curve"):
+            _retract(changes, "determination", det, linked)
+        for cd in CalendarDate.objects.filter(sample=sample, retracted_revision__isnull=True):
+            _retract(changes, "calendar_date", cd, linked)
+        _retract(changes, "sample", sample, linked)
+    for cd in CalendarDate.objects.filter(context=context, retracted_revision__isnull=True):
+        _retract(changes, "calendar_date", cd, linked)
+    for term in Terminus.objects.filter(context=context, retracted_revision__isnull=True):
+        _retract(changes, "terminus", term, linked)

@@ -397,13 +397,13 @@ def changes_touching(version: Version, until: int | None = None) -> dict:
             "touching": touching, "other": other, "up_to_date": not (touching or other)}
 
 
-def _carry(content: dict, record: RecordAt) -> tuple[dict, list[dict]]:
+def _carry(content: dict, record: RecordAt, old_labels: dict[int, str]) -> tuple[dict, list[dict]]:
     """The document with what no longer applies at ``record`` removed, and the list of it."""
     dropped = []
 
     def why_ctx(cid):
         state = "retracted" if cid in record.retracted_contexts else "unknown"
-        return f"context {record.labels.get(cid, cid)} is {state} at revision {record.revision}"
+        return f"context {old_labels.get(cid, cid)} is {state} at revision {record.revision}"
 
     def why_rel(rid):
         state = "retracted" if rid in record.retracted_relationships else "unknown"
@@ -465,8 +465,9 @@ def move_on(version: Version, actor: Actor, *, message: str = "") -> tuple[Versi
     latest = project.revision
     changes = changes_touching(version, latest)
     record = record_at(project, latest)
-    carried, dropped = _carry(version.content, record)
-    old_rels = {r.id for r in record_at(project, version.record_revision).relationships}
+    old = record_at(project, version.record_revision)
+    carried, dropped = _carry(version.content, record, old.labels)
+    old_rels = {r.id for r in old.relationships}
     new_items = [
         {"relationship": r.id, "type": r.type, "certain": r.certain,
          "default": doc.default_equality_decision(r) if r.type in EQUALITY_TYPES else "accepted"}

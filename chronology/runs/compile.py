@@ -4,7 +4,7 @@ Two layers:
 
 * :func:`build_model` is plain data in, plain data out: the record at the
   version's revision (engine ``ContextData``/``RelationshipData``), the
-  version's content normalised to :class:`Reading`, the dating evidence as
+  version's content normalised to :class:`ModelSpec`, the dating evidence as
   :class:`EvidenceSet` and the calibration curves.  It never touches the
   database, so it is tested directly.
 * :func:`compile_version` reads those from the database (record snapshot at
@@ -26,14 +26,26 @@ What the translation does:
    curve error is counted once; an inconsistent set is refused.
 3. Outliers (Christen 1994): the outlier component of a term is the same
    evidence with its error inflated by :data:`OUTLIER_SIGMA_FACTOR` — a
-   normal shift ``δ ~ N(0, (k² − 1) σ²)`` integrated out — so the term is a
+   normal shift ``δ ~ N(0, (k² − 1) σ²)`` integrated out, in radiocarbon
+   years for a determination (the curve's own error is not inflated) and
+   calendar years for a normal calendar date — so the term is a
    mixture of the precise likelihood and a broad normal one.  Termini,
    uniform and fixed dates have no error to inflate; their outlier component
    is flat over the overall range.  The factor 10 is our choice (common
    practice is "broad compared with the error"), archived in every model.
-4. The overall range ``L..U``: given in the version, or the extent of the
-   bounded evidence padded on each side by half its width (at least
-   :data:`MIN_RANGE_PAD` years), kept inside every curve used.
+4. The overall range ``L..U``: ``ModelSpec.range`` when given (version
+   documents do not carry one yet), else the extent of the bounded evidence
+   (radiocarbon likelihoods within about 6σ of their peak, calendar dates,
+   termini) padded on each side by half its width (at least
+   :data:`MIN_RANGE_PAD` years), kept inside every curve used.  The grid
+   step follows the range's width (1 year up to 1500 years, then 2, 5, 10).
+5. Refusals are :class:`ModelRefused` with a stable code and the details:
+   409 for order conflicts (``cycle``, ``model-cycle``,
+   ``equal-contexts-in-two-phases``, ``version-not-committed``), 422 for
+   the evidence (``no-evidence``, ``outside-curve``,
+   ``evidence-outside-grid``, ``empty-support``,
+   ``inconsistent-determinations``, ``evidence-used-twice``,
+   ``unknown-evidence``, ``unsupported-evidence`` ...).
 """
 
 from __future__ import annotations
@@ -46,6 +58,7 @@ from typing import Iterable
 import numpy as np
 
 from chronology.engine.calibration import ReservoirOffset, curve_on_grid, log_likelihood
+from chronology.engine.checks import check_order
 from chronology.engine.combination import combine_determinations
 from chronology.engine.curves import Curve
 from chronology.engine.errors import EngineError
@@ -75,10 +88,10 @@ __all__ = [
     "EvidenceSet",
     "PhaseSpec",
     "Usage",
-    "Reading",
+    "ModelSpec",
     "CompiledModel",
     "build_model",
-    "reading_from_content",
+    "spec_from_content",
     "compile_version",
 ]
 
@@ -107,7 +120,8 @@ class ModelRefused(Exception):
     @classmethod
     def from_engine(cls, exc: EngineError) -> "ModelRefused":
         order_codes = {"cycle", "model-cycle", "contradiction", "order-error"}
-        return cls(exc.code, exc.message, status=409 if exc.code in order_codes else 422, **exc.details)
+        details = {k: v for k, v in exc.details.items() if k not in ("code", "message", "status")}
+        return cls(exc.code, exc.message, status=409 if exc.code in order_codes else 422, **details)
 
 
 # ---------------------------------------------------------------------------
@@ -191,8 +205,8 @@ class Usage:
 
 
 @dataclass
-class Reading:
-    """A version's content, normalised (see :func:`reading_from_content`)."""
+class ModelSpec:
+    """A version's content, normalised (see :func:`spec_from_content`)."""
 
     phases: list[PhaseSpec] = field(default_factory=list)
     usages: list[Usage] = field(default_factory=list)
@@ -232,8 +246,8 @@ def _arrangement(phase: dict) -> tuple[str | None, float | None]:
     return to_next.get("arrangement"), to_next.get("min_gap")
 
 
-def reading_from_content(content: dict, relationships: list[RelationshipData], context_ids: set[int]) -> Reading:
-    """Normalise a validated version document (``chronology.interpretations.content``) to a :class:`Reading`.
+def spec_from_content(content: dict, relationships: list[RelationshipData], context_ids: set[int]) -> ModelSpec:
+    """Normalise a validated version document (``chronology.interpretations.content``) to a :class:`ModelSpec`.
 
     The order policy is the interpretation's own (``content.order_policy``):
     every equality and uncertain relationship decided, defaults included.
@@ -264,7 +278,7 @@ def reading_from_content(content: dict, relationships: list[RelationshipData], c
         if u.use not in USES:
             raise ModelRefused("invalid-input", f"unknown evidence use {u.use!r}", evidence=u.evidence)
     policy = order_policy(content, {r.id: r for r in relationships}, contexts=set(context_ids))
-    return Reading(
+    return ModelSpec(
         phases=phases,
         usages=usages,
         policy=policy,
@@ -320,9 +334,10 @@ def _radiocarbon_term(key, label, context, usage, cra, sigma, curve_name, curve:
                  {"cra": cra, "sigma": sigma, "curve": curve.name, "curve_checksum": curve.checksum, **detail})
 
 
-def _terms(reading: Reading, evidence: EvidenceSet, known_contexts: set) -> list[_Term]:
+def _terms(reading: ModelSpec, evidence: EvidenceSet, known_contexts: set) -> list[_Term]:
     terms = []
     seen = set()
+    used_labs: set = set()
     for usage in reading.usages:
         kind, number = _parse_ref(usage.evidence)
         key = f"{kind}:{number}"
@@ -385,6 +400,12 @@ def _terms(reading: Reading, evidence: EvidenceSet, known_contexts: set) -> list
             if t is None:
                 raise ModelRefused("unknown-evidence", f"no terminus {number} at this revision", evidence=key)
             terms.append(_terminus_term(key, t, usage))
+        if terms[-1].kind == "radiocarbon":
+            for lab in terms[-1].detail["lab_codes"]:
+                if lab in used_labs:
+                    raise ModelRefused("evidence-used-twice", f"{lab} is used twice (on its own and in its sample's "
+                                       "combination)", evidence=key, lab_code=lab)
+                used_labs.add(lab)
         if terms[-1].context not in known_contexts:
             raise ModelRefused("unknown-context", f"{key}: its context {terms[-1].context} is not in the record "
                                "at this revision", evidence=key, context=terms[-1].context)
@@ -458,7 +479,7 @@ def _auto_step(span: float) -> float:
     return 20.0
 
 
-def _choose_grid(reading: Reading, terms: list[_Term], evidence: EvidenceSet) -> tuple[CalendarGrid, float, float]:
+def _choose_grid(reading: ModelSpec, terms: list[_Term], evidence: EvidenceSet) -> tuple[CalendarGrid, float, float]:
     used_curves = [evidence.curves[t.curve] for t in terms if t.curve is not None]
     extent = _curve_extent(used_curves)
     if reading.range is not None:
@@ -506,7 +527,7 @@ def _boundary_keys(phases: list[PhaseSpec]) -> dict[str, str]:
     return out
 
 
-def _questions(reading: Reading, rep: dict, terms: list[_Term]) -> tuple[list[QuestionInput], dict]:
+def _questions(reading: ModelSpec, rep: dict, terms: list[_Term]) -> tuple[list[QuestionInput], dict]:
     boundaries = _boundary_keys(reading.phases)
     by_key = {t.key: t for t in terms}
 
@@ -558,7 +579,7 @@ def _question_text(q: dict) -> str:
 def build_model(
     contexts: list[ContextData],
     relationships: list[RelationshipData],
-    reading: Reading,
+    reading: ModelSpec,
     evidence: EvidenceSet,
 ) -> CompiledModel:
     """Compile one reading of the record and its evidence into a model.
@@ -578,7 +599,7 @@ def build_model(
         raise ModelRefused.from_engine(exc) from exc
 
 
-def _build(contexts, relationships, reading: Reading, evidence: EvidenceSet) -> CompiledModel:
+def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -> CompiledModel:
     labels = {c.id: c.label for c in contexts}
     known = set(labels)
     notes: list[str] = list(reading.notes)
@@ -595,6 +616,14 @@ def _build(contexts, relationships, reading: Reading, evidence: EvidenceSet) -> 
         raise ModelRefused("unknown-context", "the version names contexts not in the record at its revision",
                            contexts=unknown)
     graph = compile_order(contexts, relationships, reading.policy)
+    report = check_order(graph)
+    if not report.acyclic:
+        # name the relationships that close the cycle, not only that there is one
+        report.raise_for_errors()
+        issue = report.issues[0] if report.issues else None
+        if issue is not None:
+            raise ModelRefused("cycle", issue.message, status=409, cycle=[s.as_dict() for s in issue.path],
+                               contexts=list(issue.contexts))
     pairs = induced_order(graph, sorted(chosen))
     rep: dict[int, int] = {c: c for c in chosen}
     for group in induced_classes(graph, sorted(chosen)):
@@ -673,7 +702,7 @@ def compile_version(version) -> CompiledModel:
     contexts, relationships = snapshot(project, revision)
     evidence = sources.evidence_at(project, revision)
     try:
-        reading = reading_from_content(content, relationships, {c.id for c in contexts})
+        reading = spec_from_content(content, relationships, {c.id for c in contexts})
     except EngineError as exc:
         raise ModelRefused.from_engine(exc) from exc
     return dataclasses.replace(build_model(contexts, relationships, reading, evidence), record_revision=revision)

@@ -173,6 +173,7 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
         "settings": {"chains": run.chains, "iterations": run.iterations, "warmup": run.warmup, "thin": run.thin,
                      "seed_entropy": run.seed_entropy, "rng": run.rng,
                      "continues": str(run.parent_id) if run.parent_id else None},
+        "software": {"commit": run.software_commit, "libraries": dict(run.library_versions)},
         "converged": converged,
         "convergence": {
             "converged": converged,

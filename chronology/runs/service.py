@@ -30,7 +30,7 @@ from .models import ChainState, Run, RunChain, RunState
 from .sources import version_label
 
 __all__ = ["LIMITS", "DEFAULTS", "library_versions", "software_commit", "submit_run", "create_run", "enqueue",
-           "cancel_run", "continue_run", "check_settings"]
+           "cancel_run", "continue_run", "check_settings", "run_inline", "start_inline"]
 
 DEFAULTS = {"chains": 4, "iterations": 5000, "warmup": 1000, "thin": 1}
 LIMITS = {"chains": (1, 16), "iterations": (10, 2_000_000), "warmup": (0, 1_000_000), "thin": (1, 1000)}
@@ -191,3 +191,26 @@ def continue_run(run: Run, user, *, iterations=None, seed=None) -> Run:
                          iterations=iterations or run.iterations, warmup=run.warmup, thin=run.thin)
         enqueue(new)
     return new
+
+
+def run_inline(run: Run, on_progress=None) -> Run:
+    """Sample every chain of ``run`` in this process, one after the other, then combine.
+
+    The same task bodies as the workers run, so the outcome is identical;
+    ``on_progress(chain, sweeps_done, total)`` is called as the chains go.
+    """
+    from .tasks import execute_chain
+
+    for k in range(run.chains):
+        execute_chain(str(run.pk), k, on_progress=on_progress)
+    run.refresh_from_db()
+    return run
+
+
+def start_inline(project, version, user, **values) -> Run:
+    """Compile ``version`` and store a queued run without sending any task (for :func:`run_inline`)."""
+    seed = values.pop("seed", None)
+    check_settings(values)
+    compiled = compile_version(version)
+    with transaction.atomic():
+        return create_run(project, version, user, compiled, seed=seed, **values)

@@ -241,6 +241,10 @@ def retract_context(project: Project, actor: Actor, context_id: int, *, reason: 
         )
         for rel in linked.select_related("later", "earlier"):
             _retract_relationship(changes, rel, f"context {ctx.label} retracted: {reason}")
+        # Evidence belongs to the record too: it goes in the same revision.
+        from chronology.evidence.writes import retract_for_context
+
+        retract_for_context(changes, ctx, reason)
         before = context_data(ctx)
         ctx.retracted_revision = changes.revision
         ctx.retraction_reason = reason

@@ -169,3 +169,13 @@ def test_a_combination_needs_two_determinations(client_for, project, actor, cont
     sample = writes.add_sample(project, actor, context="1021", code="S101", material="grain").object
     error = assert_error_body(client_for(Role.VIEWER).get(url("VML24", "samples", sample.id, "combination")), 400)
     assert (error["field"], error["code"]) == ("sample", "too-few-determinations")
+
+
+def test_a_retracted_determination_still_calibrates_at_a_past_revision(client_for, project, actor, stored):
+    first, _ = stored
+    then = project.revision
+    writes.retract_evidence(project, actor, "determination", first.id, reason="laboratory withdrew the result")
+    api = client_for(Role.VIEWER)
+    assert_error_body(api.get(url("VML24", "determinations", first.id, "calibration")), 404)
+    past = api.get(url("VML24", "determinations", first.id, "calibration") + f"?at={then}")
+    assert past.status_code == 200 and past.json()["label"] == "VXL-0104" and past.json()["revision"] == then

@@ -10,7 +10,7 @@ from chronology.evidence import writes
 from chronology.evidence.models import Determination, Sample
 from projects.models import ChangeLogEntry, RecordState, Role
 from projects.models.append_only import AppendOnlyViolation
-from projects.record.errors import RecordConflict
+from projects.record.errors import RecordConflict, RecordInvalid
 
 from .conftest import url
 
@@ -67,9 +67,9 @@ def test_retracting_a_sample_retracts_its_determinations_in_the_same_revision(pr
 
 def test_retraction_needs_a_reason(project, actor, contexts):
     sample = _sample(project, actor).object
-    with pytest.raises(Exception) as err:
+    with pytest.raises(RecordInvalid) as err:
         writes.retract_evidence(project, actor, "sample", sample.id, reason=" ")
-    assert err.value.field == "reason"
+    assert (err.value.field, err.value.code) == ("reason", "required")
 
 
 def test_evidence_rows_and_their_states_refuse_deletion(project, actor, contexts, curve):
@@ -160,3 +160,13 @@ def test_the_same_lab_code_is_allowed_in_another_organisation(project, actor, co
     record_writes.add_context(other_project, foreign, label="Q1", kind="fill")
     _sample(other_project, foreign, context="Q1")
     assert _determination(other_project, foreign, curve).created
+
+
+def test_evidence_changes_appear_in_the_projects_change_feed(client_for, project, actor, contexts):
+    since = project.revision
+    sample = _sample(project, actor).object
+    writes.retract_evidence(project, actor, "sample", sample.id, reason="duplicate bag")
+    feed = client_for(Role.VIEWER).get(url("VML24", "changes") + f"?since={since}").json()["results"]
+    assert [(c["action"], c["object_id"]) for c in feed] == [
+        ("record.sample.added", sample.id), ("record.sample.retracted", sample.id)]
+    assert feed[1]["message"] == "duplicate bag"

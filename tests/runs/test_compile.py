@@ -108,7 +108,8 @@ def test_an_extra_ordering_against_the_record_is_refused_as_a_cycle(project, sit
     version = commit_content(project, analyst_actor, content, "Cyclic")
     with pytest.raises(ModelRefused) as err:
         compile_version(version)
-    assert err.value.code in ("cycle", "model-cycle") and err.value.status == 409
+    assert err.value.code == "cycle" and err.value.status == 409
+    assert {ids["1006"], ids["1002"]} <= set(err.value.details["contexts"])
 
 
 def test_a_determination_outside_the_curve_is_refused():
@@ -116,12 +117,12 @@ def test_a_determination_outside_the_curve_is_refused():
     from chronology.engine.record_data import ContextData
     from chronology.engine.synthetic_curve import synthetic_curve
     from chronology.engine.temporal_graph import OrderPolicy
-    from chronology.runs.compile import Determination, EvidenceSet, Reading, Sample, Usage, build_model
+    from chronology.runs.compile import Determination, EvidenceSet, ModelSpec, Sample, Usage, build_model
 
     evidence = EvidenceSet(samples={1: Sample(1, 1, "S1")},
                            determinations={1: Determination(1, "VXL-0999", 40000.0, 300.0, "c", 1, 1)},
                            curves={"c": synthetic_curve(0, 6000)})
-    reading = Reading(usages=[Usage("determination:1")], policy=OrderPolicy())
+    reading = ModelSpec(usages=[Usage("determination:1")], policy=OrderPolicy())
     with pytest.raises(ModelRefused) as err:
         build_model([ContextData(1, "1001")], [], reading, evidence)
     assert err.value.code == "outside-curve" and err.value.status == 422
@@ -164,3 +165,53 @@ def test_a_residual_sample_becomes_an_offset_event_earlier_than_its_context(proj
     ctx = f"ctx:{site['contexts']['1006'].id}"
     assert (key, ctx) in {(c.earlier, c.later) for c in model.constraints}
     assert _by_key(model)[ctx].kind == "undated"
+
+
+@pytest.mark.django_db
+def test_a_determination_used_alone_and_in_its_sample_is_refused(project, site, analyst_actor):
+    d1 = site["determinations"][0]
+    evidence = site["content"]["evidence"] + [{"evidence": f"determination:{d1.id}", "use": "included",
+                                               "outlier_prior": 0}]
+    version = commit_content(project, analyst_actor, dict(site["content"], evidence=evidence), "Twice")
+    with pytest.raises(ModelRefused) as err:
+        compile_version(version)
+    assert err.value.code == "evidence-used-twice"
+
+
+@pytest.mark.django_db
+def test_contexts_the_record_makes_the_same_become_one_event(project, site, actor, analyst_actor):
+    from projects.record import writes
+
+    writes.add_context(project, actor, label="1003b", kind="deposit", area="A")
+    writes.add_relationship(project, actor, subject="1003b", type="same_as", object="1003")
+    ids = {label: c.id for label, c in site["contexts"].items()}
+    from projects.models import Context
+
+    twin = Context.objects.get(project=project, label="1003b").id
+    content = dict(site["content"], estimate=[ids["1004"], twin])
+    version = commit_content(project, analyst_actor, content, "Twins")
+    model = compile_version(version).model
+    keys = {e.key for e in model.events}
+    assert f"ctx:{min(ids['1003'], twin)}" in keys and f"ctx:{max(ids['1003'], twin)}" not in keys
+    assert "1003 = 1003b" in {e.label for e in model.events}
+
+
+@pytest.mark.django_db
+def test_contiguous_phases_share_a_boundary_that_questions_can_name(project, site, analyst_actor):
+    phases = [{"key": "early", "name": "Early", "to_next": {"arrangement": "contiguous"}},
+              {"key": "late", "name": "Late"}]
+    version = commit_content(project, analyst_actor, dict(site["content"], phases=phases), "Contiguous")
+    model = compile_version(version).model
+    assert "transition:early:late" in {e.key for e in model.events}
+    interval = next(q for q in model.questions if q.kind == "interval")
+    assert interval.a == interval.b == "transition:early:late"
+
+
+@pytest.mark.django_db
+def test_overlapping_phases_keep_their_starts_in_order(project, site, analyst_actor):
+    phases = [{"key": "early", "name": "Early", "to_next": {"arrangement": "overlapping"}},
+              {"key": "late", "name": "Late"}]
+    version = commit_content(project, analyst_actor, dict(site["content"], phases=phases), "Overlapping")
+    model = compile_version(version).model
+    pairs = {(c.earlier, c.later) for c in model.constraints}
+    assert ("start:early", "start:late") in pairs and ("end:early", "start:late") not in pairs

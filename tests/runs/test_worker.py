@@ -64,12 +64,10 @@ class Worker:
     def __init__(self, env, log: Path):
         self.env, self.log, self.proc = env, log, None
 
-    def start(self, purge: bool = False):
+    def start(self):
         args = [sys.executable, "-m", "celery", "-A", "tests.runs.worker_app", "worker", "-l", "warning", "-c", "2",
                 "-P", "prefork", "--without-gossip", "--without-mingle", "--without-heartbeat",
                 "-n", f"runs-test-{uuid.uuid4().hex[:8]}@%h"]
-        if purge:
-            args.append("--purge")
         self.proc = subprocess.Popen(args, cwd=ROOT, env=self.env, stdout=self.log.open("ab"),
                                      stderr=subprocess.STDOUT, start_new_session=True)
 
@@ -90,8 +88,11 @@ class Worker:
 
 @pytest.fixture
 def worker(worker_env, tmp_path):
+    from config.celery import app
+
+    app.control.purge()  # messages left by an earlier session would only be skipped, but cost time
     w = Worker(worker_env, tmp_path / "worker.log")
-    w.start(purge=True)
+    w.start()
     yield w
     w.stop()
     connection.close()
