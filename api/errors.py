@@ -107,3 +107,25 @@ def exception_handler(exc, context):
         errors = [{"field": None, "code": code, "message": str(exc.detail)}]
     headers = {k: v for k, v in response.items() if k in ("WWW-Authenticate", "Retry-After", "Allow")}
     return error_response(response.status_code, errors, headers=headers)
+
+
+def _plain_error(request, status_code: int, code: str, message: str):
+    from django.http import JsonResponse
+
+    body = {
+        "status": status_code,
+        "code": code,
+        "message": message,
+        "request_id": getattr(request, "request_id", "") or current_request_id(),
+        "errors": [{"field": None, "code": code, "message": message}],
+    }
+    return JsonResponse(body, status=status_code)
+
+
+def not_found_view(request, exception=None):
+    """Unrouted paths answer with the same error body as the API's own 404s."""
+    return _plain_error(request, 404, "not-found", "no such resource")
+
+
+def server_error_view(request):
+    return _plain_error(request, 500, "server-error", "the server failed; the request id identifies the log entry")

@@ -14,6 +14,7 @@ import json
 
 from django.db import IntegrityError, transaction
 from rest_framework.response import Response
+from rest_framework.utils.encoders import JSONEncoder
 
 from api.errors import ApiError
 from projects.models import IdempotencyRecord
@@ -52,7 +53,7 @@ def idempotent(view_method):
             if record.state == IdempotencyRecord.State.RUNNING:
                 raise ApiError(409, "idempotency-in-progress", "the first request with this key is still running",
                                field=HEADER) from None
-            response = Response(record.response_body, status=record.status_code)
+            response = Response(_stored_body(record.response_body), status=record.status_code)
             response["Idempotent-Replayed"] = "true"
             return response
         try:
@@ -79,6 +80,12 @@ def idempotent(view_method):
 
 
 def _store(record: IdempotencyRecord, response) -> None:
+    # Kept as JSON text: PostgreSQL's jsonb reorders object keys, and a replay must be byte-identical.
+    body = None if response.data is None else json.dumps(response.data, cls=JSONEncoder)
     IdempotencyRecord.objects.filter(pk=record.pk).update(
-        state=IdempotencyRecord.State.DONE, status_code=response.status_code, response_body=response.data
+        state=IdempotencyRecord.State.DONE, status_code=response.status_code, response_body=body
     )
+
+
+def _stored_body(body):
+    return json.loads(body) if isinstance(body, str) else body

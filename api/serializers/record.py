@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from projects.models.record import Certainty, ContextKind
@@ -40,6 +41,7 @@ class ContextOut(serializers.Serializer):
     created_revision = serializers.IntegerField()
 
 
+@extend_schema_field({"oneOf": [{"type": "string"}, {"type": "integer"}]})
 class ContextRef(serializers.Field):
     """A context named by its label (string) or id (integer)."""
 

@@ -8,7 +8,7 @@ never bump it: an interpretation is not a change of the record.
 from __future__ import annotations
 
 from django.apps import apps
-from django.db import transaction
+from django.db import IntegrityError, transaction
 from django.db.models import Max, Q
 from django.utils import timezone
 
@@ -161,6 +161,8 @@ def _create_version(interpretation: Interpretation, actor: Actor, *, revision: i
                     parent: Version | None, message: str, extra_log: dict | None = None) -> Version:
     project = interpretation.project
     report = _assess(project, revision, content)
+    # Numbers are taken under the interpretation's row lock, so two drafts never get the same one.
+    Interpretation.objects.select_for_update().filter(pk=interpretation.pk).first()
     number = (Version.objects.filter(interpretation=interpretation).aggregate(m=Max("number"))["m"] or 0) + 1
     version = Version.objects.create(
         interpretation=interpretation, project=project, number=number, record_revision=revision, parent=parent,
@@ -179,11 +181,17 @@ def create_interpretation(project: Project, actor: Actor, *, name: str, descript
         raise RecordInvalid("an interpretation needs a name", field="name", code="required")
     revision = _check_revision(project, record_revision)
     cleaned = prepare_content(project, revision, content)
+    duplicate = RecordConflict(f"an interpretation named {name!r} already exists", field="name",
+                               code="duplicate-name")
     with transaction.atomic():
         if Interpretation.objects.filter(project=project, name=name).exists():
-            raise RecordConflict(f"an interpretation named {name!r} already exists", field="name", code="duplicate-name")
-        interpretation = Interpretation.objects.create(project=project, name=name, description=description or "",
-                                                       created_by=actor.user)
+            raise duplicate
+        try:
+            with transaction.atomic():
+                interpretation = Interpretation.objects.create(project=project, name=name,
+                                                               description=description or "", created_by=actor.user)
+        except IntegrityError:  # the same name created concurrently
+            raise duplicate from None
         log_action(project, actor, "interpretation.created", kind="interpretation", object_id=interpretation.pk,
                    repr_=name, after={"name": name, "description": interpretation.description})
         version = _create_version(interpretation, actor, revision=revision, content=cleaned, parent=None,

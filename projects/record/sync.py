@@ -11,6 +11,7 @@ answer it got the first time and changes nothing.
 
 from __future__ import annotations
 
+import json
 import uuid as uuid_module
 
 from projects.models import Project, SyncBatch
@@ -32,11 +33,15 @@ def sync_batch(project: Project, actor: Actor, *, batch_id, contexts=(), relatio
         raise RecordInvalid(f"a batch holds at most {MAX_ITEMS} items", field="contexts", code="batch-too-large")
     stored = SyncBatch.objects.filter(project=project, batch_id=batch_uuid).first()
     if stored is not None:
-        return stored.response
+        return _stored_answer(stored)
 
     errors: list[dict] = []
     answer = {"batch_id": str(batch_uuid), "contexts": [], "relationships": []}
     with record_change(project, actor, summary=f"sync batch {batch_uuid}") as changes:
+        # Again under the project lock: the same batch may have been sent twice at once.
+        stored = SyncBatch.objects.filter(project=changes.project, batch_id=batch_uuid).first()
+        if stored is not None:
+            return _stored_answer(stored)
         for index, item in enumerate(contexts):
             try:
                 if not isinstance(item, dict):
@@ -63,9 +68,14 @@ def sync_batch(project: Project, actor: Actor, *, batch_id, contexts=(), relatio
         answer["revision"] = changes.project.revision
         SyncBatch.objects.create(
             project=changes.project, batch_id=batch_uuid, user=actor.user, revision=changes.project.revision,
-            response=answer,
+            # JSON text, not an object: jsonb would reorder the keys of the answer a replay must repeat.
+            response=json.dumps(answer),
         )
     return answer
+
+
+def _stored_answer(stored: SyncBatch) -> dict:
+    return json.loads(stored.response) if isinstance(stored.response, str) else stored.response
 
 
 def _item(result, item, **extra) -> dict:

@@ -114,3 +114,29 @@ def test_text_uses_context_labels_relationship_texts_and_phase_names():
         "Context 2032 moved: Settlement (p3) → Enclosure (p2)",
         "Equality #50 (2032 contemporary with 2030): undecided → accepted",
     ]
+
+
+
+def test_diff_through_the_api_reads_with_context_labels(small, analyst_actor, client_for):
+    from chronology.interpretations import services
+    from projects.models import Role
+    from tests.interpretations.conftest import phased_content, vurl
+
+    rels = small["rels"]
+    _i, first = services.create_interpretation(small["project"], analyst_actor, name="First",
+                                               content=phased_content(small))
+    second_doc = phased_content(small, equalities=[{"relationship": rels["e1"], "decision": "accepted"}])
+    second_doc["assignments"] = [a if a["context"] != "105" else {"context": "105", "phase": "middle"}
+                                 for a in second_doc["assignments"]]
+    _i, second = services.create_interpretation(small["project"], analyst_actor, name="Second", content=second_doc)
+    viewer = client_for(Role.VIEWER)
+    body = viewer.get(vurl(second.pk, "diff") + f"?against={first.pk}").json()
+    assert body["diff"]["contexts"]["moved"] == [{"context": small["ids"]["105"], "from": "late", "to": "middle"}]
+    # Defaults are written out before comparing: the certain same-as stays "accepted" on both sides.
+    assert body["diff"]["equalities"]["changed"] == [{"relationship": rels["e1"], "from": "undecided",
+                                                      "to": "accepted"}]
+    assert body["text"].splitlines()[1:] == [
+        "Context 105 moved: Late (late) → Middle (middle)",
+        f"Equality #{rels['e1']} (104 contemporary with 106): undecided → accepted",
+    ]
+    assert viewer.get(vurl(second.pk, "diff") + f"?against={first.pk}&as=text").json() == {"text": body["text"]}

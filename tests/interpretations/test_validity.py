@@ -128,3 +128,11 @@ def test_validity_is_served_as_stored(draft, client_for):
     response = client_for(Role.VIEWER).get(vurl(draft.pk, "validity"))
     assert response.status_code == 200
     assert response.json() == draft.validity
+
+
+def test_evidence_of_a_known_kind_must_exist_in_the_project(small, analyst_actor):
+    version = _make(small, analyst_actor, evidence=[
+        {"evidence": "determination:999999", "use": "included", "outlier_prior": 0.05},
+        {"evidence": "photograph:3", "use": "included", "outlier_prior": 0.0},  # no such table: shape only
+    ])
+    assert _errors(version) == [("unknown-evidence", "evidence[0].evidence")]

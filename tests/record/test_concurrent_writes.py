@@ -77,3 +77,37 @@ def test_concurrent_writers_make_consecutive_revisions(project, actor):
     project.refresh_from_db()
     assert project.revision == 12
     assert list(project.revisions.values_list("number", flat=True)) == list(range(1, 13))
+
+
+def test_the_same_batch_sent_twice_at_once_is_applied_once(project, actor):
+    _require_postgres()
+    import uuid
+
+    from projects.record.sync import sync_batch
+
+    batch = {
+        "batch_id": str(uuid.uuid4()),
+        "contexts": [{"uid": str(uuid.uuid4()), "label": label, "kind": "deposit"} for label in ("1001", "1002")],
+        "relationships": [{"uid": str(uuid.uuid4()), "subject": "1001", "type": "above", "object": "1002"}],
+    }
+    barrier = threading.Barrier(2)
+    answers = [None, None]
+
+    def run(index):
+        try:
+            fresh = Project.objects.get(pk=project.pk)
+            barrier.wait(timeout=10)
+            answers[index] = sync_batch(fresh, actor, **batch)
+        except Exception as exc:  # noqa: BLE001 - the outcome is what is compared
+            answers[index] = exc
+        finally:
+            connection.close()
+
+    threads = [threading.Thread(target=run, args=(i,)) for i in range(2)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(timeout=30)
+    assert answers[0] == answers[1] and isinstance(answers[0], dict), answers
+    project.refresh_from_db()
+    assert project.revision == 1
