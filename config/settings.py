@@ -165,6 +165,11 @@ CELERY_TASK_SERIALIZER = "json"
 CELERY_RESULT_BACKEND = None
 CELERY_TASK_IGNORE_RESULT = True
 CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
+# With late acks a task of a worker that died is redelivered after this many
+# seconds (Redis transport), so a killed chain is picked up by another worker.
+CELERY_BROKER_TRANSPORT_OPTIONS = {"visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", 3600)}
+#: A run whose chains have reported no progress for this long is considered stale.
+TELLSTACK_RUN_STALE_SECONDS = env_int("TELLSTACK_RUN_STALE_SECONDS", 60)
 
 LOGGING = {
     "version": 1,

@@ -16,7 +16,7 @@ def find_project(user, ref: str) -> Project:
     A project of another organisation is not in the caller's queryset at all,
     so it is indistinguishable from one that does not exist.
     """
-    visible = Project.objects.visible_to(user).select_related("organisation")
+    visible = Project.objects.visible_to(user).select_related("organisation").with_role_of(user).order_by()
     if ":" in ref:
         org, code = ref.split(":", 1)
         candidates = list(visible.filter(organisation__slug=org, code=code))
@@ -29,7 +29,10 @@ def find_project(user, ref: str) -> Project:
             409, "ambiguous-project", f"several of your organisations have a project {ref!r}; use ORG:CODE",
             field="project", candidates=[f"{p.organisation.slug}:{p.code}" for p in candidates],
         )
-    return candidates[0]
+    found = candidates[0]
+    role = found._override_role or found._member_role or (Role.MANAGER if user.is_superuser else None)
+    found._roles_for = (user.pk, role)
+    return found
 
 
 class ProjectScopedMixin:

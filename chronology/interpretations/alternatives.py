@@ -10,6 +10,8 @@ paged through lazily and any listed choice can become a new draft.
 
 from __future__ import annotations
 
+import time
+
 from chronology import jobs
 from chronology.engine.alternatives import (
     AlternativesProblem,
@@ -25,6 +27,7 @@ from chronology.engine.checks import check_order, merge_implied_equalities
 from chronology.engine.errors import SearchCancelled
 from chronology.engine.record_data import EQUALITY_TYPES, STRICT_TYPES
 from chronology.models import Job, JobState
+from projects.models import Role
 from projects.record.errors import RecordConflict, RecordInvalid
 
 from . import content as doc
@@ -69,16 +72,16 @@ def build_problem(content: dict, record: RecordAt, *, include_uncertain: bool = 
 def start(version: Version, actor, *, include_uncertain: bool = True, time_budget: float = DEFAULT_TIME_BUDGET,
           max_k_exact: int = DEFAULT_MAX_K_EXACT) -> Job:
     """Submit the analysis of ``version``'s alternatives as a job (runs after commit)."""
+    from .services import log_action, require_role
     from .tasks import analyse_version_alternatives
 
+    require_role(version.project, actor, Role.ANALYST)
     if not 0 < float(time_budget) <= 600:
         raise RecordInvalid("time_budget is between 0 and 600 seconds", field="time_budget", code="out-of-range")
     if not 1 <= int(max_k_exact) <= 60:
         raise RecordInvalid("max_k_exact is between 1 and 60", field="max_k_exact", code="out-of-range")
     params = {"version": version.pk, "include_uncertain": bool(include_uncertain), "time_budget": float(time_budget),
               "max_k_exact": int(max_k_exact)}
-    from .services import log_action
-
     log_action(version.project, actor, "interpretation.alternatives.requested", kind="interpretation_version",
                object_id=version.pk, repr_=str(version), after=params)
     return jobs.submit(version.project, actor.user, JOB_KIND, params, analyse_version_alternatives)
@@ -97,6 +100,19 @@ def _limits(result: AlternativesResult, params: dict) -> dict:
             "max_k_exact": params["max_k_exact"], "time_budget": params["time_budget"]}
 
 
+def _every(seconds: float, check):
+    """``check`` asked at most once per ``seconds`` (the search polls far more often than that)."""
+    last = [time.monotonic(), False]
+
+    def polled() -> bool:
+        now = time.monotonic()
+        if not last[1] and now - last[0] >= seconds:
+            last[0], last[1] = now, bool(check())
+        return last[1]
+
+    return polled
+
+
 def run(job: Job, reporter) -> dict:
     """The job's work: analyse the version's alternatives and describe them."""
     params = job.params
@@ -107,7 +123,7 @@ def run(job: Job, reporter) -> dict:
     try:
         result = analyse_alternatives(
             problem, max_k_exact=params["max_k_exact"], time_budget=params["time_budget"],
-            progress=lambda f: reporter.progress(f, stage="analysis"), cancel=reporter.cancelled,
+            progress=lambda f: reporter.progress(f, stage="analysis"), cancel=_every(0.5, reporter.cancelled),
         )
     except SearchCancelled:
         raise jobs.JobCancelled() from None

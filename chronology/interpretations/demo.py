@@ -150,6 +150,27 @@ def _wait(job, seconds: float = 30.0):
     return job
 
 
+def _alternatives_markdown(version: Version, report: dict) -> str:
+    result = report.get("result") or {}
+    analysis = result.get("analysis") or {}
+    lines = [f"# Vellmarsh Lane (VML24) — alternatives of {version}", ""]
+    if report["state"] != "done":
+        return "\n".join(lines + [f"The analysis ended {report['state']}: {report.get('error')}", ""])
+    text = {i["relationship"]: i["text"] for i in result["items"]}
+    lines += ["Undecided items:", ""]
+    lines += [f"- #{i['relationship']} {i['text']} ({i['kind']})" for i in result["items"]]
+    lines += ["", result["limits"]["statement"],
+              f"Distinct temporal orders among them: {analysis['distinct_orders']}.", ""]
+    conflicts = analysis.get("minimal_conflicts") or []
+    lines.append("Minimal conflicts: " + ("; ".join(" + ".join(text.get(r, f"#{r}") for r in c) for c in conflicts)
+                                          if conflicts else "none (every combination is consistent)."))
+    lines += ["", "First consistent choices (accepted items):", ""]
+    for choice in report["first_choices"]["results"]:
+        accepted = ", ".join(text.get(r, f"#{r}") for r in choice["accepted"]) or "none"
+        lines.append(f"{choice['index']}. {accepted}")
+    return "\n".join(lines) + "\n"
+
+
 def _write(state, name: str, text: str) -> None:
     path = state["out"] / name
     path.write_text(text)
@@ -181,6 +202,7 @@ def interpretations_step(state, stdout):
     _write(state, "interpretations-diff.json", json.dumps(diff, indent=2, ensure_ascii=False))
     report = _alternatives_report(second, cleo)
     _write(state, "interpretations-alternatives.json", json.dumps(report, indent=2, ensure_ascii=False))
+    _write(state, "interpretations-alternatives.md", _alternatives_markdown(second, report))
 
     state["approved_version"] = first
     state["interpretations"] = {"approved": first.pk, "competing": second.pk}

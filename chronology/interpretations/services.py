@@ -14,7 +14,7 @@ from django.utils import timezone
 
 from chronology.engine.interpretation_diff import diff_interpretations, diff_text
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES
-from projects.models import ChangeLogEntry, Context, Project, RecordState, Relationship
+from projects.models import ChangeLogEntry, Context, Project, RecordState, Relationship, Role
 from projects.record import reads
 from projects.record.changes import Actor
 from projects.record.errors import RecordConflict, RecordError, RecordInvalid, RecordNotFound
@@ -25,7 +25,9 @@ from .models import TRANSITIONS, Interpretation, Reading, Status, Version
 from .validity import RecordAt, assess
 
 __all__ = [
+    "NotAllowed",
     "PreconditionFailed",
+    "require_role",
     "PreconditionRequired",
     "log_action",
     "record_at",
@@ -56,6 +58,17 @@ class PreconditionFailed(RecordError):
 class PreconditionRequired(RecordError):
     status = 428
     code = "precondition-required"
+
+
+class NotAllowed(RecordError):
+    status = 403
+    code = "permission-denied"
+
+
+def require_role(project: Project, actor: Actor, role: str) -> None:
+    """The view checks roles first; this keeps every other caller (tasks, commands) to the same rule."""
+    if Role.rank(project.role_of(actor.user)) < Role.rank(role):
+        raise NotAllowed(f"this needs the {role} role on project {project.code}")
 
 
 # -- the change log -------------------------------------------------------------
@@ -176,6 +189,7 @@ def _create_version(interpretation: Interpretation, actor: Actor, *, revision: i
 def create_interpretation(project: Project, actor: Actor, *, name: str, description: str = "", content=None,
                           record_revision=None, message: str = "") -> tuple[Interpretation, Version]:
     """A new interpretation with its first draft (version 1)."""
+    require_role(project, actor, Role.ANALYST)
     name = (name or "").strip()
     if not name:
         raise RecordInvalid("an interpretation needs a name", field="name", code="required")
@@ -203,6 +217,7 @@ def new_draft(version: Version, actor: Actor, *, message: str = "", content=None
               extra_log: dict | None = None) -> Version:
     """A draft child of ``version``: its content (or ``content``) on its revision (or ``record_revision``)."""
     project = version.project
+    require_role(project, actor, Role.ANALYST)
     revision = version.record_revision if record_revision is None else _check_revision(project, record_revision)
     cleaned = version.content if content is None else prepare_content(project, revision, content)
     with transaction.atomic():
@@ -217,6 +232,7 @@ def _locked(version: Version) -> Version:
 def edit_draft(version: Version, actor: Actor, *, if_match: str | None, content=None, message=None,
                record_revision=None) -> Version:
     """Change a draft's content, message or revision; ``if_match`` must be its current ETag."""
+    require_role(version.project, actor, Role.ANALYST)
     if if_match is None:
         raise PreconditionRequired("send If-Match with the version's ETag to edit a draft", field="If-Match")
     with transaction.atomic():
@@ -266,6 +282,7 @@ def _move(version: Version, actor: Actor, target: str, *, reason: str = "", fiel
 
 def commit(version: Version, actor: Actor, *, message: str | None = None) -> Version:
     """Freeze a draft for ever, storing the SHA-256 of its canonical content."""
+    require_role(version.project, actor, Role.ANALYST)
     with transaction.atomic():
         current = _locked(version)
         if current.status != Status.DRAFT:
@@ -284,6 +301,7 @@ def commit(version: Version, actor: Actor, *, message: str | None = None) -> Ver
 
 def propose(version: Version, actor: Actor) -> Version:
     """Put a committed, valid version forward for approval."""
+    require_role(version.project, actor, Role.ANALYST)
     with transaction.atomic():
         current = _locked(version)
         if current.status == Status.COMMITTED and not current.is_valid:
@@ -294,6 +312,7 @@ def propose(version: Version, actor: Actor) -> Version:
 
 def approve(version: Version, actor: Actor, *, reason: str = "") -> Version:
     """Approve a proposed version; the interpretation's previously approved one is superseded."""
+    require_role(version.project, actor, Role.MANAGER)
     with transaction.atomic():
         list(Version.objects.select_for_update().filter(interpretation_id=version.interpretation_id))
         current = _locked(version)
@@ -310,6 +329,8 @@ def approve(version: Version, actor: Actor, *, reason: str = "") -> Version:
 
 
 def reject(version: Version, actor: Actor, *, reason: str) -> Version:
+    """Turn a proposed version down, with a reason."""
+    require_role(version.project, actor, Role.MANAGER)
     reason = (reason or "").strip()
     if not reason:
         raise RecordInvalid("a rejection needs a reason", field="reason", code="required")
@@ -332,6 +353,7 @@ def _set_reading(reading: Reading | None, version: Version, actor: Actor, *, bec
 
 def make_current(version: Version, actor: Actor) -> Reading:
     """Mark an approved version as the project's current reading."""
+    require_role(version.project, actor, Role.MANAGER)
     with transaction.atomic():
         current = _locked(version)
         if current.status != Status.APPROVED:
@@ -502,6 +524,16 @@ def relationship_texts(project: Project, revision: int, ids=None) -> dict[int, s
             for r in rows}
 
 
+def _mark_absent(one: dict, other: dict, other_record: RecordAt) -> None:
+    """Decisions about relationships the other side's record does not have read "not in the record" there."""
+    for name in ("equalities", "uncertain"):
+        present = {e["relationship"] for e in other[name]}
+        missing = [e["relationship"] for e in one[name]
+                   if e["relationship"] not in present and e["relationship"] not in other_record.by_id]
+        other[name] = sorted(other[name] + [{"relationship": r, "decision": "not in the record"} for r in missing],
+                             key=lambda x: x["relationship"])
+
+
 def diff_versions(old: Version, new: Version) -> dict:
     """Structured and text difference between two versions of one project."""
     if old.project_id != new.project_id:
@@ -510,6 +542,8 @@ def diff_versions(old: Version, new: Version) -> dict:
     rec_old, rec_new = record_at(project, old.record_revision), record_at(project, new.record_revision)
     a = doc.with_effective_decisions(old.content, rec_old.by_id)
     b = doc.with_effective_decisions(new.content, rec_new.by_id)
+    _mark_absent(a, b, rec_new)
+    _mark_absent(b, a, rec_old)
     structured = diff_interpretations(a, b, old_revision=old.record_revision, new_revision=new.record_revision)
     labels = {**rec_old.labels, **rec_new.labels}
     rel_ids = {e["relationship"] for d in (a, b) for n in ("equalities", "uncertain", "set_aside") for e in d[n]}

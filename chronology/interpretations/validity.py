@@ -15,7 +15,7 @@ as engine data, so it can be tested on hand-built records.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Callable, Iterable, Mapping
+from typing import Callable, Iterable
 
 from chronology.engine.checks import check_order
 from chronology.engine.phasing import check_phasing
@@ -199,7 +199,3 @@ def assess(content: dict, record: RecordAt, *,
             "pending": sorted(r.id for r in graph.pending),
         },
     }
-
-
-def labels_of(record: RecordAt) -> Mapping[int, str]:
-    return record.labels

@@ -58,6 +58,14 @@ class Membership(models.Model):
 
 
 class ProjectQuerySet(models.QuerySet):
+    def with_role_of(self, user) -> "ProjectQuerySet":
+        """Annotate each project with ``user``'s override and membership roles (one query)."""
+        from django.db.models import OuterRef, Subquery
+
+        override = ProjectRole.objects.filter(project=OuterRef("pk"), user=user).values("role")[:1]
+        member = Membership.objects.filter(organisation=OuterRef("organisation_id"), user=user).values("role")[:1]
+        return self.annotate(_override_role=Subquery(override), _member_role=Subquery(member))
+
     def visible_to(self, user) -> "ProjectQuerySet":
         """Projects of the organisations ``user`` belongs to (none for anonymous)."""
         if user is None or not user.is_authenticated:
@@ -75,6 +83,7 @@ class Project(models.Model):
     name = models.CharField(max_length=200)
     description = models.TextField(blank=True)
     revision = models.PositiveIntegerField(default=0)
+    record_digest = models.CharField(max_length=64, blank=True, help_text="Digest of the latest revision.")
     created_at = models.DateTimeField(auto_now_add=True)
 
     objects = ProjectQuerySet.as_manager()
@@ -90,6 +99,9 @@ class Project(models.Model):
         """The caller's role here: the project override if any, else the membership."""
         if user is None or not user.is_authenticated:
             return None
+        known = getattr(self, "_roles_for", None)
+        if known is not None and known[0] == user.pk:
+            return known[1]
         override = self.role_overrides.filter(user=user).values_list("role", flat=True).first()
         if override:
             return override

@@ -117,7 +117,7 @@ class ChangeSet:
                 for e in self.entries
             ]
         )
-        parent = Revision.objects.filter(project=self.project, number=self.revision - 1).values_list("digest", flat=True).first() or ""
+        parent = self.project.record_digest
         revision = Revision.objects.create(
             number=self.revision,
             parent_digest=parent,
@@ -126,9 +126,9 @@ class ChangeSet:
             summary=(self.summary or _summarise(self.entries))[:300],
             **common,
         )
-        Project.objects.filter(pk=self.project.pk).update(revision=self.revision)
+        Project.objects.filter(pk=self.project.pk).update(revision=self.revision, record_digest=revision.digest)
         self.project.revision = self.revision
-        self.project.latest_digest = revision.digest
+        self.project.record_digest = revision.digest
         return revision
 
 

@@ -58,6 +58,8 @@ def build_order(project: Project) -> IncrementalOrder:
 def _digest_at(project: Project, number: int) -> str:
     if number == 0:
         return ""
+    if number == project.revision:
+        return project.record_digest
     return Revision.objects.filter(project=project, number=number).values_list("digest", flat=True).first() or "?"
 
 
@@ -95,7 +97,7 @@ def checkout(project: Project) -> IncrementalOrder:
         order = build_order(project)
 
     def _return():
-        digest = getattr(project, "latest_digest", None) or _digest_at(project, project.revision)
+        digest = project.record_digest
         with _lock:
             current = _registry.get(project.pk)
             if current is None or current.revision < project.revision:

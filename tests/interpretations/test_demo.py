@@ -48,4 +48,5 @@ def test_demo_step_makes_two_competing_readings_and_is_idempotent(demo_state, dj
     assert Version.objects.filter(project=project).count() == versions
     assert ChangeLogEntry.objects.filter(project=project).count() == entries
     assert demo_state["approved_version"].pk == approved.pk
-    assert len(demo_state["files"]) == 3
+    assert len(demo_state["files"]) == 4
+    assert "Exact: all 3 undecided items" in (demo_state["out"] / "interpretations-alternatives.md").read_text()

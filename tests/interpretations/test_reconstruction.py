@@ -105,3 +105,14 @@ def test_moving_on_through_the_api_answers_the_new_draft_and_the_report(draft, s
     assert body["version"]["record_revision"] == small["project"].revision
     assert body["report"]["from_revision"] == draft.record_revision
     assert [d["path"] for d in body["report"]["dropped"]] == ["assignments[7]"]
+
+
+def test_diff_across_revisions_names_relationships_the_new_record_lacks(draft, small, actor, analyst_actor):
+    rels = small["rels"]
+    writes.retract_relationship(small["project"], actor, rels["e1"], reason="the two were never in contact")
+    moved, _report = services.move_on(draft, analyst_actor)
+    result = services.diff_versions(draft, moved)
+    assert result["diff"]["equalities"]["changed"] == [
+        {"relationship": rels["e1"], "from": "undecided", "to": "not in the record"}]
+    assert result["diff"]["record_revision"] == {"from": draft.record_revision, "to": moved.record_revision}
+    assert f"Equality #{rels['e1']} (104 contemporary with 106): undecided → not in the record" in result["text"]

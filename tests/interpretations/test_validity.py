@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import pytest
-
 from chronology.interpretations import services
 from projects.models import Role
 from projects.record import writes

@@ -194,3 +194,32 @@ def test_every_action_is_logged_at_the_current_revision_without_bumping_it(small
     assert first.token is not None
     assert entries[4].user_name == "dan.manager"
     assert entries[2].after["content_hash"] == _version(vid).content_hash
+
+
+def test_the_service_keeps_to_the_roles_without_the_api(proposed, analyst_actor):
+    with pytest.raises(services.NotAllowed):
+        services.approve(proposed, analyst_actor)
+    assert _version(proposed.pk).status == Status.PROPOSED
+
+
+def test_creating_with_an_idempotency_key_twice_makes_one_interpretation(small, client_for):
+    analyst = client_for(A)
+    body = {"name": "Retried", "content": phased_content(small)}
+    first = analyst.post(iurl(), body, format="json", HTTP_IDEMPOTENCY_KEY="k-1")
+    again = analyst.post(iurl(), body, format="json", HTTP_IDEMPOTENCY_KEY="k-1")
+    assert first.status_code == again.status_code == 201
+    assert again["Idempotent-Replayed"] == "true"
+    assert again.json()["id"] == first.json()["id"]
+    assert Version.objects.filter(interpretation__name="Retried").count() == 1
+
+
+def test_versions_are_listed_in_a_stable_order_page_by_page(draft, analyst_actor, client_for):
+    for n in range(3):
+        services.new_draft(draft, analyst_actor, message=f"branch {n}")
+    viewer = client_for(V)
+    page = viewer.get(vurl() + "?page_size=2").json()
+    assert page["count"] == 4
+    second = viewer.get(vurl() + "?page_size=2&page=2").json()
+    numbers = [v["number"] for v in page["results"] + second["results"]]
+    assert numbers == [1, 2, 3, 4]
+    assert [v["number"] for v in viewer.get(vurl() + "?status=draft").json()["results"]] == [1, 2, 3, 4]
