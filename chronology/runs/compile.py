@@ -607,11 +607,13 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
     if not any(t.use != "excluded" for t in terms):
         raise ModelRefused("no-evidence", "the version uses no dating evidence (every item is excluded or none "
                            "is named)", status=422)
+    # Events are the dated contexts and the undated ones the version asks to
+    # estimate; other phased contexts still order them through the induced
+    # order, but carry no event of their own.
     chosen = set(reading.undated)
-    for p in reading.phases:
-        chosen.update(p.members)
     chosen.update(t.context for t in terms)
-    unknown = sorted(c for c in chosen if c not in known)
+    phased = {c for p in reading.phases for c in p.members}
+    unknown = sorted(c for c in chosen | phased if c not in known)
     if unknown:
         raise ModelRefused("unknown-context", "the version names contexts not in the record at its revision",
                            contexts=unknown)
@@ -630,7 +632,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         head = min(group)
         for c in group:
             rep[c] = head
-        notes.append("contexts " + ", ".join(labels[c] for c in sorted(group)) + " are one event (equal in the record)")
+        notes.append("contexts " + ", ".join(labels[c] for c in sorted(group)) + " are one event (equal under this interpretation)")
     order = sorted({(rep[a], rep[b], s) for a, b, s in pairs if rep[a] != rep[b]})
     event_labels = {}
     for c in chosen:
@@ -643,6 +645,8 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
     for p in reading.phases:
         members = []
         for c in p.members:
+            if c not in chosen:
+                continue
             r = rep[c]
             if phase_of.get(r, p.key) != p.key:
                 raise ModelRefused("equal-contexts-in-two-phases",
