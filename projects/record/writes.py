@@ -296,6 +296,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
         raise RecordInvalid(f"context {subject.label} cannot be related to itself", field="object", code="self-relationship")
     type_, later_id, earlier_id = canonical_relationship(subject.pk, wording, obj.pk)
     labels = {subject.pk: subject.label, obj.pk: obj.label}
+    ends = {subject.pk: subject, obj.pk: obj}
 
     if uid is not None:
         existing = Relationship.objects.filter(project=project, uid=uid).first()
@@ -318,6 +319,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     )
     for duplicate in between:
         same_way = (duplicate.later_id, duplicate.earlier_id) == (later_id, earlier_id)
+        duplicate.later, duplicate.earlier = ends[duplicate.later_id], ends[duplicate.earlier_id]
         if duplicate.type == type_ and (same_way or type_ in EQUALITY_TYPES):
             if duplicate.certainty != certainty:
                 raise RecordConflict(
@@ -356,8 +358,8 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
         project=project,
         uid=uid or uuid_module.uuid4(),
         type=type_,
-        later_id=later_id,
-        earlier_id=earlier_id,
+        later=ends[later_id],
+        earlier=ends[earlier_id],
         certainty=certainty,
         recorded_as=wording,
         note=note,
