@@ -185,9 +185,9 @@ def _add_context(changes: ChangeSet, fields: dict, uid) -> WriteResult:
         project=project, uid=uid or uuid_module.uuid4(), created_revision=changes.revision, **cleaned
     )
     changes.created("context", ctx, context_data(ctx), repr_=ctx.label)
-    order = getattr(changes, "_order", None)
-    if order is not None:
-        order.add_context(ctx.id)
+    # Keeping the order current here means the next relationship post finds it
+    # at the latest revision and need not catch up from the log.
+    _order(changes).add_context(ctx.id)
     return WriteResult(ctx, True, changes.revision)
 
 
