@@ -442,7 +442,7 @@ def retract_evidence(project: Project, actor: Actor, kind: str, object_id: int, 
         raise RecordInvalid("a retraction needs a reason", field="reason", code="required")
     model = _MODELS[kind]
     with record_change(project, actor) as changes:
-        qs = model.objects.select_for_update().filter(project=changes.project, pk=object_id)
+        qs = model.objects.select_for_update(of=("self",)).filter(project=changes.project, pk=object_id)
         if kind == "determination":
             qs = qs.select_related("curve", "marine_curve")
         obj = qs.first()
