@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import os
+import uuid
 from pathlib import Path
 
 import numpy as np
@@ -208,8 +209,11 @@ def compute_results(run) -> dict:
     summary = summarise(model, dates, outliers, evidence_keys=evidence_keys, curves=_curve_names(run),
                         run_id=str(run.pk), diagnostics=report)
     labels = (run.summary or {}).get("question_labels", {})
-    write_netcdf(idata, str(run.path(".samples.tmp.nc")))
-    os.replace(run.path(".samples.tmp.nc"), run.path("samples.nc"))
+    # A private temporary name: two combines of one run (a redelivered task)
+    # must never write the same HDF5 file at once.
+    tmp = run.path(f".samples.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp.nc")
+    write_netcdf(idata, str(tmp))
+    os.replace(tmp, run.path("samples.nc"))
     full = summary_to_dict(run, model, summary, report, labels, densities=True)
     full["evidence"] = (run.summary or {}).get("evidence", [])
     full["years"] = {"start": model.grid.start, "step": model.grid.step, "n": model.grid.n}

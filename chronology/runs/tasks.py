@@ -30,7 +30,7 @@ import os
 import socket
 import time
 import traceback
-from datetime import timedelta
+from datetime import datetime, timedelta
 from typing import Callable
 
 from celery import shared_task
@@ -190,8 +190,17 @@ def _after_chain(run_id: str) -> None:
         done = RunChain.objects.filter(run=run, state=ChainState.DONE).count()
         if done < run.chains:
             return
+        # Two chains finishing together both get here: only one combines.  A
+        # combine claimed longer ago than the stale limit is taken over (its
+        # worker died), so a redelivered task still finishes the run.
+        now = timezone.now()
+        started = (run.timings or {}).get("combine_claimed_at")
+        stale = getattr(settings, "TELLSTACK_RUN_STALE_SECONDS", 60)
+        if run.combining and started and (now - datetime.fromisoformat(started)).total_seconds() < stale:
+            return
         run.combining = True
-        run.save(update_fields=["combining"])
+        run.timings = {**(run.timings or {}), "combine_claimed_at": now.isoformat()}
+        run.save(update_fields=["combining", "timings"])
     combine(run_id)
 
 
