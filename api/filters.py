@@ -31,5 +31,10 @@ class RelationshipStateFilter(django_filters.FilterSet):
 
 class ChangeFilter(django_filters.FilterSet):
     since = django_filters.NumberFilter(field_name="revision", lookup_expr="gt", help_text="Entries after this revision.")
+    after = django_filters.NumberFilter(
+        field_name="id", lookup_expr="gt",
+        help_text="Entries after this entry id: a cursor that also catches actions logged without a new "
+                  "revision (interpretation workflow).",
+    )
     action = django_filters.CharFilter(field_name="action", lookup_expr="startswith")
     object_kind = django_filters.CharFilter(field_name="object_kind")

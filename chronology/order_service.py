@@ -41,6 +41,19 @@ def record_order(project: Project, revision: int | None = None, policy: OrderPol
     return RecordOrder(project, revision, compile_order(contexts, relationships, policy))
 
 
+def version_order(version) -> tuple[RecordOrder, list[str], dict[int, str]]:
+    """An interpretation version's own order (its revision, its decisions) and its phasing."""
+    from chronology.interpretations.services import record_at
+    from chronology.interpretations.validity import compile_version_order
+
+    record = record_at(version.project, version.record_revision)
+    graph = compile_version_order(version.content, record)
+    names = {p["key"]: p["name"] for p in version.content.get("phases", [])}
+    phases = [p["name"] for p in version.content.get("phases", [])]
+    phase_of = {a["context"]: names[a["phase"]] for a in version.content.get("assignments", []) if a["phase"] in names}
+    return RecordOrder(version.project, version.record_revision, graph), phases, phase_of
+
+
 def full_check(project: Project, revision: int | None = None) -> dict:
     """Check + reduction of the record at ``revision`` as plain data."""
     order = record_order(project, revision)

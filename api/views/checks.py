@@ -77,14 +77,32 @@ class DiagramView(ProjectScopedMixin, APIView):
     """The layered diagram of the order as SVG (earlier at the bottom)."""
 
     @extend_schema(
-        parameters=[AT, OpenApiParameter("area", OpenApiTypes.STR, description="Draw one area only.")],
+        parameters=[
+            AT,
+            OpenApiParameter("area", OpenApiTypes.STR, description="Draw one area only."),
+            OpenApiParameter("version", OpenApiTypes.INT,
+                             description="Draw an interpretation version: its order, with its phases as bands."),
+        ],
         responses={(200, "image/svg+xml"): OpenApiTypes.STR},
     )
     def get(self, request, project):
         found = self.get_project()
-        revision = reads.resolve_revision(found, request.query_params.get("at"))
-        order = order_service.record_order(found, revision)
-        svg = order_service.diagram_svg(order, area=request.query_params.get("area"))
+        area = request.query_params.get("area")
+        version_id = request.query_params.get("version")
+        if version_id:
+            from chronology.interpretations.models import Version
+
+            version = Version.objects.filter(project=found, pk=int(version_id) if version_id.isdigit() else -1).first()
+            if version is None:
+                raise ApiError(404, "not-found", f"no interpretation version {version_id!r} in this project",
+                               field="version")
+            order, phases, phase_of = order_service.version_order(version)
+            title = f"{found.name} — {version.interpretation.name} v{version.number}"
+            svg = order_service.diagram_svg(order, area=area, phases=phases, phase_of=phase_of, title=title)
+        else:
+            revision = reads.resolve_revision(found, request.query_params.get("at"))
+            order = order_service.record_order(found, revision)
+            svg = order_service.diagram_svg(order, area=area)
         return HttpResponse(svg, content_type="image/svg+xml")
 
 

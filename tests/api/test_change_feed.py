@@ -157,3 +157,9 @@ def test_a_revision_cannot_be_deleted(worked):
 def test_the_change_feed_refuses_writes(tablet, worked):
     response = tablet.post(url("VML24", "changes"), {"action": "record.context.added"}, format="json")
     assert_error_body(response, 405, "method-not-allowed")
+
+
+def test_after_an_entry_id_returns_the_entries_logged_since_that_entry(tablet, worked):
+    feed = _feed(tablet)
+    later = _feed(tablet, f"?after={feed[3]['id']}")
+    assert [e["id"] for e in later] == [e["id"] for e in feed[4:]]

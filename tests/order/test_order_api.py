@@ -89,3 +89,25 @@ def test_another_organisations_diagram_and_checks_are_invisible(small_site, outs
 
 def test_viewers_may_not_start_a_check(small_site, client_for):
     assert client_for(Role.VIEWER).post("/api/v1/projects/VML24/checks/").status_code == 403
+
+
+def test_the_diagram_of_a_version_draws_its_phases_as_bands(small_site, client_for):
+    from chronology.interpretations import services
+    from projects.models import Context
+
+    analyst = client_for(Role.ANALYST)
+    ids = {c.label: c.id for c in Context.objects.filter(project=small_site)}
+    content = {
+        "phases": [{"key": "early", "name": "Early"}, {"key": "late", "name": "Late"}],
+        "assignments": [{"context": ids["1003"], "phase": "early"}, {"context": ids["1002"], "phase": "early"},
+                        {"context": ids["1001"], "phase": "late"}, {"context": ids["1004"], "phase": "late"}],
+    }
+    from projects.models import Role as R
+    from projects.record.changes import Actor
+
+    user = small_site.organisation.memberships.get(role=R.ANALYST).user
+    _interp, version = services.create_interpretation(small_site, Actor(user=user), name="Two phases", content=content)
+    response = analyst.get(f"/api/v1/projects/VML24/order/diagram.svg?version={version.pk}")
+    assert response.status_code == 200
+    texts = [t.text for t in ET.fromstring(response.content).iter("{http://www.w3.org/2000/svg}text")]
+    assert "Early" in texts and "Late" in texts
