@@ -7,7 +7,7 @@ from rest_framework import exceptions, viewsets
 
 from api.errors import ApiError
 from api.permissions import ProjectRolePermission
-from projects.models import Project, Role
+from projects.models import Membership, Organisation, Project, ProjectRole, Role
 
 
 def find_project(user, ref: str) -> Project:
@@ -18,16 +18,14 @@ def find_project(user, ref: str) -> Project:
     """
     if user is None or not user.is_authenticated:
         raise exceptions.NotFound(f"no project {ref!r}")
-    # Visibility is membership of the project's organisation, read from the same
-    # subquery that gives the caller's role: one query, no join fan-out.
-    visible = Project.objects.select_related("organisation").with_role_of(user).order_by()
-    if not user.is_superuser:
-        visible = visible.filter(_member_role__isnull=False)
-    if ":" in ref:
-        org, code = ref.split(":", 1)
-        candidates = list(visible.filter(organisation__slug=org, code=code))
+    org_slug, code = ref.split(":", 1) if ":" in ref else (None, ref)
+    if user.is_superuser:
+        visible = Project.objects.select_related("organisation").with_role_of(user).order_by().filter(code=code)
+        if org_slug is not None:
+            visible = visible.filter(organisation__slug=org_slug)
+        candidates = list(visible)
     else:
-        candidates = list(visible.filter(code=ref))
+        candidates = _member_projects(user, code, org_slug)
     if not candidates:
         raise exceptions.NotFound(f"no project {ref!r}")
     if len(candidates) > 1:
@@ -38,6 +36,40 @@ def find_project(user, ref: str) -> Project:
     found = candidates[0]
     role = found._override_role or found._member_role or (Role.MANAGER if user.is_superuser else None)
     found._roles_for = (user.pk, role)
+    return found
+
+
+_MEMBER_PROJECTS = """
+SELECT p.*, o.slug AS org_slug, o.name AS org_name, o.created_at AS org_created_at,
+       m.role AS _member_role,
+       (SELECT r.role FROM {role} r WHERE r.project_id = p.id AND r.user_id = %s) AS _override_role
+FROM {project} p
+JOIN {org} o ON o.id = p.organisation_id
+JOIN {membership} m ON m.organisation_id = p.organisation_id AND m.user_id = %s
+WHERE p.code = %s {org_filter}
+ORDER BY o.slug
+"""
+
+
+def _member_projects(user, code: str, org_slug: str | None) -> list[Project]:
+    """Projects with this code in the user's organisations, with the user's roles.
+
+    This runs on every project-nested request, so it is one plain query
+    (membership is the visibility rule and the role source at once).
+    """
+    sql = _MEMBER_PROJECTS.format(
+        project=Project._meta.db_table,
+        org=Organisation._meta.db_table,
+        membership=Membership._meta.db_table,
+        role=ProjectRole._meta.db_table,
+        org_filter="AND o.slug = %s" if org_slug is not None else "",
+    )
+    params = [user.pk, user.pk, code] + ([org_slug] if org_slug is not None else [])
+    found = list(Project.objects.raw(sql, params))
+    for project in found:
+        project.organisation = Organisation(
+            id=project.organisation_id, slug=project.org_slug, name=project.org_name, created_at=project.org_created_at
+        )
     return found
 
 
