@@ -9,18 +9,9 @@ from django.db import transaction
 from chronology import jobs, order_service
 from chronology.models import CheckReport
 from chronology.tasks import run_order_check
+from projects.demo.outputs import write_output as _write
 from projects.demo.vellmarsh import PHASE_OF, PHASES
 from projects.record import reads
-
-
-def _write(state, name, data, mode="w"):
-    path = state["out"] / name
-    if isinstance(data, bytes):
-        path.write_bytes(data)
-    else:
-        path.write_text(data)
-    state["files"].append(path)
-    return path
 
 
 def order_step(state, stdout):

@@ -109,7 +109,7 @@ def store_check(project: Project, revision: int, job=None):
 
 # -- diagram -----------------------------------------------------------------
 
-def diagram_parts(order: RecordOrder, phases: list[str] | None = None, phase_of: dict[int, str] | None = None):
+def diagram_parts(order: RecordOrder, phase_of: dict[int, str] | None = None):
     """Diagram nodes and the direct edges of the (acyclic) order."""
     graph = order.graph
     reduction = reduce_order(graph, explain=False)
@@ -134,13 +134,15 @@ def diagram_parts(order: RecordOrder, phases: list[str] | None = None, phase_of:
 def diagram_svg(order: RecordOrder, *, area: str | None = None, phases=None, phase_of=None,
                 title: str | None = None) -> str:
     """The layered diagram as SVG: earlier at the bottom, phases as bands."""
-    from chronology.engine.errors import OrderError
+    from chronology.engine.errors import CycleError, OrderError
 
-    report = check_order(order.graph)
-    if not report.acyclic:
+    try:
+        nodes, edges = diagram_parts(order, phase_of)
+    except CycleError:
+        # Only a record that cannot be drawn pays for the full check that explains why.
+        report = check_order(order.graph)
         raise OrderError("the record is not acyclic; it cannot be drawn", code="not-acyclic",
-                         details={"issues": [i.as_dict() for i in report.errors]})
-    nodes, edges = diagram_parts(order, phases, phase_of)
+                         details={"issues": [i.as_dict() for i in report.errors]}) from None
     if area is not None:
         parts = {p.key[0]: p for p in split_for_drawing(nodes, edges, max_nodes=len(nodes) + 1, by="area")}
         if area not in parts:

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from django.db.models import Q
 from rest_framework import exceptions, viewsets
 
 from api.errors import ApiError
@@ -104,4 +103,4 @@ def truthy(value) -> bool:
     return str(value).lower() in {"1", "true", "yes", "on"}
 
 
-__all__ = ["find_project", "ProjectScopedMixin", "ProjectScopedViewSet", "truthy", "Q"]
+__all__ = ["find_project", "ProjectScopedMixin", "ProjectScopedViewSet", "truthy"]

@@ -19,6 +19,7 @@ from chronology.engine.plots.calibration_plot import calibration_plot
 from chronology.engine.radiocarbon import f14c_from_cra
 from chronology.engine.synthetic_curve import SYNTHETIC_NOTICE, synthetic_curve
 from projects.demo.load import uid_for
+from projects.demo.outputs import write_output as _write
 from projects.record.changes import Actor
 
 from . import calibrate, writes
@@ -76,16 +77,6 @@ def _simulate(curve) -> dict[str, tuple[float, float]]:
         age = mu[i] + rng.normal(0.0, sd[i]) + rng.normal(0.0, lab_sigma)
         out[lab] = (float(round(age)), lab_sigma)
     return out
-
-
-def _write(state, name: str, text: str | bytes) -> None:
-    path = state["out"] / name
-    path.parent.mkdir(parents=True, exist_ok=True)
-    if isinstance(text, bytes):
-        path.write_bytes(text)
-    else:
-        path.write_text(text)
-    state["files"].append(path)
 
 
 def _hpd_text(summary: dict, level: float) -> str:

@@ -26,6 +26,7 @@ from django.db import transaction
 from chronology import jobs
 from chronology.models import JobState
 from projects.demo import vellmarsh
+from projects.demo.outputs import write_output as _write
 from projects.models import Relationship
 from projects.record.changes import Actor
 
@@ -169,12 +170,6 @@ def _alternatives_markdown(version: Version, report: dict) -> str:
         accepted = ", ".join(text.get(r, f"#{r}") for r in choice["accepted"]) or "none"
         lines.append(f"{choice['index']}. {accepted}")
     return "\n".join(lines) + "\n"
-
-
-def _write(state, name: str, text: str) -> None:
-    path = state["out"] / name
-    path.write_text(text)
-    state["files"].append(path)
 
 
 def interpretations_step(state, stdout):

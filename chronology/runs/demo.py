@@ -10,20 +10,12 @@ from __future__ import annotations
 
 import json
 
+from projects.demo.outputs import write_output as _write
+
 __all__ = ["STEPS", "model_step", "DEMO_SEED"]
 
 #: Fixed seed entropy, so the demo gives the same numbers on every run.
 DEMO_SEED = 20240517
-
-
-def _write(state, name: str, data) -> None:
-    path = state["out"] / name
-    path.parent.mkdir(parents=True, exist_ok=True)
-    if isinstance(data, bytes):
-        path.write_bytes(data)
-    else:
-        path.write_text(data)
-    state["files"].append(path)
 
 
 def model_step(state, stdout):

@@ -9,12 +9,7 @@ from __future__ import annotations
 import json
 
 from projects.demo.load import load_demo_record
-
-
-def _write(state, name: str, text: str) -> None:
-    path = state["out"] / name
-    path.write_text(text)
-    state["files"].append(path)
+from projects.demo.outputs import write_output as _write
 
 
 def record_step(state, stdout):

@@ -14,6 +14,7 @@ import uuid as uuid_module
 from dataclasses import dataclass
 
 from django.db import IntegrityError
+from django.db.models import Q
 
 from chronology.engine.record_data import (
     EQUALITY_TYPES,
@@ -237,7 +238,7 @@ def retract_context(project: Project, actor: Actor, context_id: int, *, reason: 
         if not ctx.is_active:
             return WriteResult(ctx, False, project.revision)
         linked = Relationship.objects.filter(project=changes.project, retracted_revision__isnull=True).filter(
-            models_q_either(ctx.pk)
+            Q(later_id=ctx.pk) | Q(earlier_id=ctx.pk)
         )
         for rel in linked.select_related("later", "earlier"):
             _retract_relationship(changes, rel, f"context {ctx.label} retracted: {reason}")
@@ -253,30 +254,21 @@ def retract_context(project: Project, actor: Actor, context_id: int, *, reason: 
     return WriteResult(ctx, False, project.revision)
 
 
-def models_q_either(context_id: int):
-    from django.db.models import Q
-
-    return Q(later_id=context_id) | Q(earlier_id=context_id)
-
-
 # -- relationships -----------------------------------------------------------
 
-def _cycle_body(steps, labels: dict[int, str], rel_types: dict) -> list[dict]:
-    body = []
-    for step in steps:
-        entry = {
+def _cycle_body(steps, labels: dict[int, str]) -> list[dict]:
+    """The cycle as the API shows it: each step's ``to`` is the next step's ``from``."""
+    return [
+        {
             "id": step.relationship_id,
             "type": step.type,
             "from": labels[step.from_context],
             "to": labels[step.to_context],
             "proposed": step.relationship_id is None,
+            "relationship": relationship_text(step.type, labels[step.from_context], labels[step.to_context]),
         }
-        if step.type in ORDERED_TYPES:
-            entry["relationship"] = relationship_text(step.type, labels[step.from_context], labels[step.to_context])
-        else:
-            entry["relationship"] = relationship_text(step.type, labels[step.from_context], labels[step.to_context])
-        body.append(entry)
-    return body
+        for step in steps
+    ]
 
 
 def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
@@ -314,7 +306,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     # One query finds both a duplicate and an inverse between the same two contexts.
     between = list(
         Relationship.objects.filter(project=project, retracted_revision__isnull=True)
-        .filter(models_q_pair(later_id, earlier_id) | models_q_pair(earlier_id, later_id))
+        .filter(Q(later_id=later_id, earlier_id=earlier_id) | Q(later_id=earlier_id, earlier_id=later_id))
         .order_by("id")
     )
     for duplicate in between:
@@ -351,7 +343,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
         text = relationship_text(type_, labels[later_id], labels[earlier_id])
         raise RecordConflict(
             f"{text} would make the temporal order cyclic",
-            field="type", code=code, cycle=_cycle_body(cycle, labels, {}),
+            field="type", code=code, cycle=_cycle_body(cycle, labels),
         )
 
     rel = Relationship.objects.create(
@@ -368,12 +360,6 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     order.add(RelationshipData(id=rel.id, type=type_, later=later_id, earlier=earlier_id, certain=proposal.certain))
     changes.created("relationship", rel, relationship_data(rel), repr_=relationship_text(type_, labels[later_id], labels[earlier_id]))
     return WriteResult(rel, True, changes.revision)
-
-
-def models_q_pair(later_id: int, earlier_id: int):
-    from django.db.models import Q
-
-    return Q(later_id=later_id, earlier_id=earlier_id)
 
 
 def add_relationship(project: Project, actor: Actor, **data) -> WriteResult:

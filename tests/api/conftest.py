@@ -8,12 +8,6 @@ from projects.record.changes import Actor
 from tests.record.helpers import add_contexts, relate
 
 
-@pytest.fixture(autouse=True)
-def _fast_password_hashing(settings):
-    """The shared fixtures give every user a password; a slow hasher would dominate these tests."""
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 def url(code: str, *parts) -> str:
     """``/api/v1/projects/{code}/<parts>/``."""
     tail = "/".join(str(p) for p in parts)

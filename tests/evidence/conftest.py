@@ -17,13 +17,6 @@ EXTENT = dict(start_bp=0.0, end_bp=6000.0, step=5.0)
 
 
 @pytest.fixture(autouse=True)
-def _evidence_settings(settings):
-    settings.ROOT_URLCONF = "tests.evidence.urls"
-    # The users' passwords are never checked here (token clients); a fast hasher keeps set-up quick.
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
-@pytest.fixture(autouse=True)
 def _fresh_curve_cache():
     stored_curves.forget()
     yield

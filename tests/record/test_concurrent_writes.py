@@ -12,7 +12,6 @@ from projects.record import writes
 from projects.record.changes import Actor
 from projects.record.errors import RecordError
 from tests.record.helpers import add_contexts, relate
-from tests.api.conftest import _fast_password_hashing  # noqa: F401  (autouse)
 
 pytestmark = pytest.mark.django_db(transaction=True)
 

@@ -8,7 +8,6 @@ from projects.models import Context, RecordState
 from projects.record import writes
 from projects.record.errors import RecordConflict, RecordInvalid, RecordNotFound
 from tests.record.helpers import add_contexts, relate
-from tests.api.conftest import _fast_password_hashing  # noqa: F401  (autouse)
 
 
 def test_a_partial_edit_cannot_put_the_base_above_the_stored_top(project, actor):

@@ -7,7 +7,6 @@ import pytest
 from projects.record import order_cache, writes
 from projects.record.errors import RecordConflict, RecordInvalid
 from tests.record.helpers import add_contexts, relate
-from tests.api.conftest import _fast_password_hashing  # noqa: F401  (autouse)
 
 
 @pytest.fixture

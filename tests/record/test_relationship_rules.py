@@ -10,7 +10,6 @@ from projects.record.changes import Actor
 from projects.record.errors import RecordConflict, RecordInvalid
 from tests.api.conftest import assert_error_body, url
 from tests.record.helpers import add_contexts, relate
-from tests.api.conftest import _fast_password_hashing  # noqa: F401  (autouse)
 
 
 def _refusal(project, actor, subject, type_, obj, **extra):

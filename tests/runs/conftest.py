@@ -26,8 +26,6 @@ LABELS = ["1001", "1002", "1003", "1004", "1005", "1006", "1007"]
 @pytest.fixture(autouse=True)
 def _media(settings, tmp_path):
     settings.MEDIA_ROOT = tmp_path / "media"
-    # a fast hasher for the role users (Django's testing documentation suggests it for speed)
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
     forget_curves()
     yield
     forget_curves()
