@@ -16,9 +16,9 @@
       "evidence": [{"evidence": "determination:4", "use": "included", "outlier_prior": 0.05}],
       "estimate": [31],
       "questions": [
-        {"kind": "span", "phase": "settlement"},
-        {"kind": "interval", "from": "phase:enclosure:end", "to": "phase:settlement:start"},
-        {"kind": "order", "earlier": "context:17", "later": "evidence:determination:4"}
+        {"kind": "duration", "phase": "settlement"},
+        {"kind": "gap", "from": "phase:enclosure:close", "to": "phase:settlement:beginning"},
+        {"kind": "precedence", "earlier": "context:17", "later": "evidence:determination:4"}
       ]
     }
 
@@ -33,7 +33,9 @@ turns labels into ids at the version's record revision first.
 
 :func:`validate` checks the shape and the internal references (phase keys,
 duplicates) and returns the canonical document; references to the record are
-checked against a revision by :mod:`.validity`.
+checked against a revision by :mod:`.validity`.  Documents stored under the
+earlier question names are read through :mod:`chronology.engine.legacy_names`
+(normalised on read, never rewritten, so their hashes stand).
 """
 
 from __future__ import annotations
@@ -44,6 +46,7 @@ import math
 import re
 from typing import Callable, Mapping
 
+from chronology.engine.legacy_names import read_content
 from chronology.engine.record_data import EQUALITY_TYPES, IDENTITY_TYPES, ORDERED_TYPES, RelationshipData
 from chronology.engine.temporal_graph import ExtraOrdering, OrderPolicy
 
@@ -71,7 +74,7 @@ ARRANGEMENTS = ("sequential", "contiguous", "overlapping")
 EQUALITY_DECISIONS = ("accepted", "set_aside", "undecided")
 UNCERTAIN_DECISIONS = ("accepted", "rejected", "undecided")
 EVIDENCE_USES = ("included", "excluded", "residual", "intrusive")
-QUESTION_KINDS = ("span", "interval", "order")
+QUESTION_KINDS = ("duration", "gap", "precedence")
 SECTIONS = ("phases", "assignments", "equalities", "set_aside", "uncertain", "orderings", "evidence",
             "estimate", "questions")
 
@@ -343,14 +346,14 @@ def _estimate(errors: _Errors, raw) -> list[int]:
 
 def _event(errors: _Errors, path: str, value, keys: set[str], evidence: set[str]) -> str | None:
     if not isinstance(value, str):
-        errors.add(path, "invalid-event", "an event is a string such as 'phase:<key>:start' or 'context:<id>'")
+        errors.add(path, "invalid-event", "an event is a string such as 'phase:<key>:beginning' or 'context:<id>'")
         return None
     parts = value.split(":")
     if parts[0] == "phase" and len(parts) == 3:
         if parts[1] not in keys:
             errors.add(path, "unknown-phase", f"no phase {parts[1]!r} in phases")
-        elif parts[2] not in ("start", "end"):
-            errors.add(path, "invalid-event", "a phase event is its start or its end")
+        elif parts[2] not in ("beginning", "close"):
+            errors.add(path, "invalid-event", "a phase event is its beginning or its close")
         return value
     if parts[0] == "context" and len(parts) == 2:
         if not parts[1].isdigit() or int(parts[1]) <= 0:
@@ -364,11 +367,11 @@ def _event(errors: _Errors, path: str, value, keys: set[str], evidence: set[str]
         elif ref not in evidence:
             errors.add(path, "evidence-not-used", f"{ref} is not listed in evidence")
         return value
-    errors.add(path, "invalid-event", "an event is 'phase:<key>:start|end', 'context:<id>' or 'evidence:<kind>:<id>'")
+    errors.add(path, "invalid-event", "an event is 'phase:<key>:beginning|close', 'context:<id>' or 'evidence:<kind>:<id>'")
     return None
 
 
-_QUESTION_FIELDS = {"span": ("phase",), "interval": ("from", "to"), "order": ("earlier", "later")}
+_QUESTION_FIELDS = {"duration": ("phase",), "gap": ("from", "to"), "precedence": ("earlier", "later")}
 
 
 def _questions(errors: _Errors, raw, keys: set[str], evidence: set[str]) -> list[dict]:
@@ -384,7 +387,7 @@ def _questions(errors: _Errors, raw, keys: set[str], evidence: set[str]) -> list
         fields = _QUESTION_FIELDS[kind]
         obj = _object(errors, path, item, {"kind", "label", *fields})
         q = {"kind": kind}
-        if kind == "span":
+        if kind == "duration":
             phase = obj.get("phase")
             if phase not in keys:
                 errors.add(f"{path}.phase", "unknown-phase", f"no phase {phase!r} in phases")
@@ -417,6 +420,7 @@ def validate(document) -> dict:
     errors = _Errors()
     if document is None:
         document = {}
+    document = read_content(document)
     obj = _object(errors, "content", document, set(SECTIONS))
     if obj is None:
         raise ContentInvalid(errors.items)

@@ -73,9 +73,12 @@ from chronology.engine.evidence_likelihoods import (
 from chronology.engine.grid import CalendarGrid
 from chronology.engine.induced import induced_classes, induced_order
 from chronology.engine.model import Model
-from chronology.engine.model_compiler import EvidenceInput, PhaseInput, QuestionInput, compile_model
+from chronology.engine.labels import label_list
+from chronology.engine.legacy_names import read_content
+from chronology.engine.model_compiler import EvidenceInput, PhaseInput, beginning_key, compile_model
 from chronology.engine.record_data import ContextData, RelationshipData
 from chronology.engine.temporal_graph import OrderPolicy, compile_order
+from chronology.runs.questions import compile_questions
 
 __all__ = [
     "OUTLIER_SIGMA_FACTOR",
@@ -254,7 +257,7 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
     """
     from chronology.interpretations.content import order_policy
 
-    content = content or {}
+    content = read_content(content or {})
     members: dict[str, list[int]] = {}
     for a in content.get("assignments") or ():
         members.setdefault(a["phase"], []).append(int(a["context"]))
@@ -269,7 +272,7 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
                          "(only the order of the boundaries is)")
         if arrangement == "overlapping" and j + 1 < len(raw_phases):
             # overlapping phases keep independent boundaries; their starts are in order
-            boundary_order.append((f"start:{p['key']}", f"start:{raw_phases[j + 1]['key']}", False))
+            boundary_order.append((beginning_key(p["key"]), beginning_key(raw_phases[j + 1]["key"]), False))
         phases.append(PhaseSpec(str(p["key"]), str(p.get("name") or p["key"]), tuple(members.get(p["key"], ())),
                                 arrangement))
     usages = [Usage(str(u["evidence"]), str(u.get("use") or "included"), float(u.get("outlier_prior") or 0.0))
@@ -513,69 +516,6 @@ def _choose_grid(reading: ModelSpec, terms: list[_Term], evidence: EvidenceSet) 
     return grid, grid.start, grid.end
 
 
-def _boundary_keys(phases: list[PhaseSpec]) -> dict[str, str]:
-    """``phase:<key>:start|end`` -> the model's boundary key (contiguous phases share one)."""
-    out = {}
-    for j, p in enumerate(phases):
-        out.setdefault(f"phase:{p.key}:start", f"start:{p.key}")
-        nxt = phases[j + 1] if j + 1 < len(phases) else None
-        if nxt is not None and p.arrangement_next == "contiguous":
-            shared = f"transition:{p.key}:{nxt.key}"
-            out[f"phase:{p.key}:end"] = out[f"phase:{nxt.key}:start"] = shared
-        else:
-            out[f"phase:{p.key}:end"] = f"end:{p.key}"
-    return out
-
-
-def _questions(reading: ModelSpec, rep: dict, terms: list[_Term]) -> tuple[list[QuestionInput], dict]:
-    boundaries = _boundary_keys(reading.phases)
-    by_key = {t.key: t for t in terms}
-
-    def event(i, ref):
-        if ref in boundaries:
-            return boundaries[ref]
-        kind, _, rest = ref.partition(":")
-        if kind == "context":
-            c = int(rest)
-            if c not in rep:
-                raise ModelRefused("invalid-question", f"question {i + 1} names context {c}, which is not in the "
-                                   "model", question=i)
-            return f"ctx:{rep[c]}"
-        if kind == "evidence":
-            ek, _, number = rest.partition(":")
-            t = by_key.get(f"{_KIND_ALIASES.get(ek, ek)}:{number}")
-            if t is None or t.use == "excluded":
-                raise ModelRefused("invalid-question", f"question {i + 1} names evidence {rest}, which the model "
-                                   "does not use", question=i)
-            return f"ctx:{rep[t.context]}" if t.use == "included" else f"sample:{t.key}"
-        raise ModelRefused("invalid-question", f"question {i + 1}: unknown event {ref!r}", question=i)
-
-    out, labels = [], {}
-    for i, q in enumerate(reading.questions):
-        kind = q["kind"]
-        if kind == "span":
-            qi = QuestionInput("span", str(q["phase"]), None, f"span:{q['phase']}")
-        elif kind == "interval":
-            a, b = event(i, q["from"]), event(i, q["to"])
-            qi = QuestionInput("interval", a, b, f"interval:{a}:{b}")
-        elif kind == "order":
-            a, b = event(i, q["earlier"]), event(i, q["later"])
-            qi = QuestionInput("order", a, b, f"order:{a}:{b}")
-        else:
-            raise ModelRefused("invalid-question", f"unknown question kind {kind!r}", question=i)
-        out.append(qi)
-        labels[qi.key] = q.get("label") or _question_text(q)
-    return out, labels
-
-
-def _question_text(q: dict) -> str:
-    if q["kind"] == "span":
-        return f"span of phase {q['phase']}"
-    if q["kind"] == "interval":
-        return f"interval from {q['from']} to {q['to']}"
-    return f"probability that {q['earlier']} is earlier than {q['later']}"
-
-
 def build_model(
     contexts: list[ContextData],
     relationships: list[RelationshipData],
@@ -638,7 +578,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
     for c in chosen:
         event_labels.setdefault(rep[c], [])
         event_labels[rep[c]].append(labels[c])
-    event_labels = {k: " = ".join(sorted(v, key=lambda s: (len(s), s))) for k, v in event_labels.items()}
+    event_labels = {k: label_list(v) for k, v in event_labels.items()}
 
     phase_of: dict[int, str] = {}
     phases = []
@@ -671,7 +611,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         ll, out = t.build(grid, lo, hi)
         inputs.append(EvidenceInput(t.key, rep[t.context], ll, t.use, t.outlier_prior if out is not None else 0.0,
                                     out, t.label, t.kind))
-    questions, question_labels = _questions(reading, rep, terms)
+    questions, question_labels = compile_questions(reading, rep, terms, event_labels)
     model = compile_model(
         grid, phases=phases, order=order, evidence=inputs, range_lo=lo, range_hi=hi,
         undated=sorted({rep[c] for c in reading.undated}), questions=questions,
