@@ -42,6 +42,42 @@ def _fast_password_hashing(settings):
     settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
 
 
+HISTORY_TABLES = ("projects_changelogentry", "projects_revision", "projects_recordstate")
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _flush_past_history_triggers():
+    """Let the database flush after transactional tests truncate the history tables.
+
+    PostgreSQL refuses ``TRUNCATE`` on them (migration 0004); Django empties
+    the database between transactional tests with exactly that, so the
+    triggers are switched off for the flush only.
+    """
+    from django.db import connection
+    from django.test import TransactionTestCase
+
+    original = TransactionTestCase._fixture_teardown
+
+    def teardown(self):
+        if connection.vendor != "postgresql":
+            return original(self)
+        _history_triggers(connection, "DISABLE")
+        try:
+            original(self)
+        finally:
+            _history_triggers(connection, "ENABLE")
+
+    TransactionTestCase._fixture_teardown = teardown
+    yield
+    TransactionTestCase._fixture_teardown = original
+
+
+def _history_triggers(connection, state: str) -> None:
+    with connection.cursor() as cursor:
+        for table in HISTORY_TABLES:
+            cursor.execute(f"ALTER TABLE {table} {state} TRIGGER USER")
+
+
 @pytest.fixture(autouse=True)
 def _fresh_order_cache():
     order_cache.forget()
