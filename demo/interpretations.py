@@ -82,10 +82,10 @@ def _content(project, state, *, hearth_with_floor: bool) -> dict:
         "evidence": _evidence_slots(state),
         "estimate": ["2030"],
         "questions": [
-            {"kind": "span", "phase": "settlement", "label": "How long did the settlement last?"},
-            {"kind": "interval", "from": "phase:enclosure:end", "to": "phase:settlement:start",
+            {"kind": "duration", "phase": "settlement", "label": "How long did the settlement last?"},
+            {"kind": "gap", "from": "phase:enclosure:close", "to": "phase:settlement:beginning",
              "label": "Gap between the enclosure and the settlement"},
-            {"kind": "order", "earlier": "phase:settlement:end", "later": "phase:stone-building:start"},
+            {"kind": "precedence", "earlier": "phase:settlement:close", "later": "phase:stone-building:beginning"},
         ],
     }
     if not hearth_with_floor:

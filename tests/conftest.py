@@ -163,7 +163,8 @@ def _stored_versions_meet_the_published_schema(request):
     """After every test that used the database, each stored version's content meets the schema.
 
     Checked with the ``jsonschema`` library's own Draft 2020-12 validator, so a
-    document the service stored can be read by anyone holding the schema file.
+    document the service stored can be read by anyone holding the schema file
+    (documents stored under earlier names are read through the alias table first).
     """
     uses_db = request.node.get_closest_marker("django_db") or {"db", "transactional_db"} & set(request.fixturenames)
     if not uses_db:
@@ -174,6 +175,7 @@ def _stored_versions_meet_the_published_schema(request):
     from django.db import connection
     from jsonschema import Draft202012Validator
 
+    from chronology.engine.legacy_names import read_content
     from chronology.interpretations.content_schema import schema
     from chronology.interpretations.models import Version
 
@@ -181,5 +183,5 @@ def _stored_versions_meet_the_published_schema(request):
         return  # the test broke its own transaction on purpose; nothing can be read in it
     validator = Draft202012Validator(schema())
     for number, content in Version.objects.values_list("number", "content"):
-        problems = [f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in validator.iter_errors(content)]
+        problems = [f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in validator.iter_errors(read_content(content))]
         assert not problems, f"version {number} breaks the published schema: {problems}"

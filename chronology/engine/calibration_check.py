@@ -47,7 +47,14 @@ from chronology.engine.curves import Curve
 from chronology.engine.evidence_likelihoods import terminus_ante_quem, terminus_post_quem
 from chronology.engine.grid import CalendarGrid
 from chronology.engine.model import Model
-from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
+from chronology.engine.model_compiler import (
+    EvidenceInput,
+    PhaseInput,
+    beginning_key,
+    changeover_key,
+    close_key,
+    compile_model,
+)
 from chronology.engine.sampler import flatten, run_chain
 
 __all__ = [
@@ -116,9 +123,9 @@ class SiteDesign:
         """The model's boundary keys in time order (for overlapping phases: beginning then close per phase)."""
         keys = self.phase_keys()
         if self.arrangement == "contiguous":
-            inner = [f"transition:{a}:{b}" for a, b in zip(keys, keys[1:])]
-            return [f"start:{keys[0]}", *inner, f"end:{keys[-1]}"]
-        return [k for p in keys for k in (f"start:{p}", f"end:{p}")]
+            inner = [changeover_key(a, b) for a, b in zip(keys, keys[1:])]
+            return [beginning_key(keys[0]), *inner, close_key(keys[-1])]
+        return [k for p in keys for k in (beginning_key(p), close_key(p))]
 
 
 @dataclass(frozen=True, eq=False)
@@ -244,7 +251,7 @@ def design_model(design: SiteDesign, ages: list[tuple[str, float, bool]], curve:
                                       fn(grid, t.year).log_values, kind=t.kind))
     order = ()
     if design.arrangement == "overlapping":
-        order = tuple((f"start:{a}", f"start:{b}", False) for a, b in zip(keys, keys[1:]))
+        order = tuple((beginning_key(a), beginning_key(b), False) for a, b in zip(keys, keys[1:]))
     return compile_model(grid, phases=phases, order=[], evidence=evidence, range_lo=design.range_lo,
                          range_hi=design.range_hi, boundary_order=order)
 

@@ -16,9 +16,9 @@
       "evidence": [{"evidence": "determination:4", "use": "included", "outlier_prior": 0.05}],
       "estimate": [31],
       "questions": [
-        {"kind": "span", "phase": "settlement"},
-        {"kind": "interval", "from": "phase:enclosure:end", "to": "phase:settlement:start"},
-        {"kind": "order", "earlier": "context:17", "later": "evidence:determination:4"}
+        {"kind": "duration", "phase": "settlement"},
+        {"kind": "gap", "from": "phase:enclosure:close", "to": "phase:settlement:beginning"},
+        {"kind": "precedence", "earlier": "context:17", "later": "evidence:determination:4"}
       ]
     }
 
@@ -34,7 +34,10 @@ turns labels into ids at the version's record revision first.
 :func:`validate` checks the shape against the published JSON Schema
 (``schemas/interpretation-content.v1.json``) and the internal references
 (phase keys, duplicates) and returns the canonical document; references to the
-record are checked against a revision by :mod:`.validity`.
+record are checked against a revision by :mod:`.validity`.  Documents stored
+under the earlier question names are read through
+:mod:`chronology.engine.legacy_names` (normalised on read, never rewritten, so
+their hashes stand).
 """
 
 from __future__ import annotations
@@ -44,6 +47,7 @@ import json
 import re
 from typing import Callable, Mapping
 
+from chronology.engine.legacy_names import read_content
 from chronology.engine.record_data import EQUALITY_TYPES, IDENTITY_TYPES, ORDERED_TYPES, RelationshipData
 from chronology.engine.temporal_graph import ExtraOrdering, OrderPolicy
 
@@ -113,6 +117,7 @@ def validate(document) -> dict:
     """
     if document is None:
         document = {}
+    document = read_content(document)
     structural = structural_errors(document)
     cross = content_rules.problems(document) if isinstance(document, Mapping) else []
     if structural or cross:

@@ -24,7 +24,7 @@ QUESTION_FIELDS = {kind: tuple(f for f in rule["then"]["required"])
                                       for r in schema()["$defs"]["question"]["allOf"])}
 _KEY = re.compile(schema()["$defs"]["phaseKey"]["pattern"])
 _EVIDENCE = re.compile(r"^([a-z][a-z0-9_]{0,39}):([0-9]{1,18})$")
-_PHASE_EVENTS = ("start", "end")
+_PHASE_EVENTS = ("beginning", "close")
 _ARRANGEMENTS = tuple(schema()["$defs"]["arrangement"]["enum"])
 
 

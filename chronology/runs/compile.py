@@ -52,6 +52,7 @@ import numpy as np
 from chronology.engine.checks import check_order
 from chronology.engine.errors import EngineError
 from chronology.engine.induced import induced_classes, induced_order
+from chronology.engine.labels import label_list
 from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
 from chronology.engine.record_data import ContextData, RelationshipData
 from chronology.engine.temporal_graph import compile_order
@@ -59,7 +60,7 @@ from chronology.engine.temporal_graph import compile_order
 from . import sources
 from .compile_content import ARRANGEMENTS, USES, spec_from_content
 from .compile_evidence import OUTLIER_SIGMA_FACTOR, evidence_terms
-from .compile_questions import model_questions
+from .compile_questions import compile_questions
 from .compile_range import MIN_RANGE_PAD, choose_grid
 from .model_inputs import (
     CalendarDate,
@@ -157,7 +158,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
     for c in chosen:
         event_labels.setdefault(rep[c], [])
         event_labels[rep[c]].append(labels[c])
-    event_labels = {k: " = ".join(sorted(v, key=lambda s: (len(s), s))) for k, v in event_labels.items()}
+    event_labels = {k: label_list(v) for k, v in event_labels.items()}
 
     phase_of: dict[int, str] = {}
     phases = []
@@ -190,7 +191,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         ll, out = t.build(grid, lo, hi)
         inputs.append(EvidenceInput(t.key, rep[t.context], ll, t.use, t.outlier_prior if out is not None else 0.0,
                                     out, t.label, t.kind))
-    questions, question_labels = model_questions(reading, rep, terms)
+    questions, question_labels = compile_questions(reading, rep, terms, event_labels)
     model = compile_model(
         grid, phases=phases, order=order, evidence=inputs, range_lo=lo, range_hi=hi,
         undated=sorted({rep[c] for c in reading.undated}), questions=questions,

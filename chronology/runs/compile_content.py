@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from chronology.engine.legacy_names import read_content
+from chronology.engine.model_compiler import beginning_key
 from chronology.engine.record_data import RelationshipData
 
 from .model_inputs import ModelRefused, ModelSpec, PhaseSpec, Usage
@@ -27,7 +29,7 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
     """
     from chronology.interpretations.content import order_policy
 
-    content = content or {}
+    content = read_content(content or {})
     members: dict[str, list[int]] = {}
     for a in content.get("assignments") or ():
         members.setdefault(a["phase"], []).append(int(a["context"]))
@@ -42,7 +44,7 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
                          "(only the order of the boundaries is)")
         if arrangement == "overlapping" and j + 1 < len(raw_phases):
             # overlapping phases keep independent boundaries; their starts are in order
-            boundary_order.append((f"start:{p['key']}", f"start:{raw_phases[j + 1]['key']}", False))
+            boundary_order.append((beginning_key(p["key"]), beginning_key(raw_phases[j + 1]["key"]), False))
         phases.append(PhaseSpec(str(p["key"]), str(p.get("name") or p["key"]), tuple(members.get(p["key"], ())),
                                 arrangement))
     usages = [Usage(str(u["evidence"]), str(u.get("use") or "included"), float(u.get("outlier_prior") or 0.0))
