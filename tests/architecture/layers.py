@@ -73,8 +73,21 @@ def _targets(node: ast.AST, module: str, is_package: bool) -> list[str]:
     return []
 
 
+def _type_checking_only(tree: ast.AST) -> set[int]:
+    """Ids of import nodes under ``if TYPE_CHECKING:``: annotations only, never run."""
+    skipped = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.If) and getattr(node.test, "id", getattr(node.test, "attr", None)) == "TYPE_CHECKING":
+            skipped.update(id(n) for stmt in node.body for n in ast.walk(stmt))
+    return skipped
+
+
 def imports(root: Path) -> list[Import]:
-    """Every import (module level or inside functions) in our packages under ``root``, migrations aside."""
+    """Every import (module level or inside functions) in our packages under ``root``, migrations aside.
+
+    Imports under ``if TYPE_CHECKING:`` are left out: they name types for
+    annotations and are never executed.
+    """
     found = []
     for package in OURS:
         if package == "tests" or not (root / package).is_dir():
@@ -84,7 +97,10 @@ def imports(root: Path) -> list[Import]:
                 continue
             module = _module_name(root, path)
             tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+            skipped = _type_checking_only(tree)
             for node in ast.walk(tree):
+                if id(node) in skipped:
+                    continue
                 for target in _targets(node, module, path.name == "__init__.py"):
                     found.append(Import(module, target, node.lineno))
     return found

@@ -56,3 +56,10 @@ def test_two_modules_importing_each_other_are_a_circle(tmp_path):
     root = _tree(tmp_path, {"chronology/a.py": "from chronology import b\n",
                             "chronology/b.py": "def f():\n    from chronology.a import g\n"})
     assert layers.cycles(root) == [["chronology.a", "chronology.b"]]
+
+
+def test_an_import_for_annotations_only_is_not_a_circle(tmp_path):
+    root = _tree(tmp_path, {"chronology/a.py": "from chronology import b\n",
+                            "chronology/b.py": "from typing import TYPE_CHECKING\nif TYPE_CHECKING:\n"
+                                               "    from chronology.a import A\n"})
+    assert layers.cycles(root) == []
