@@ -16,7 +16,7 @@ from chronology.engine.interpretation_diff import diff_interpretations, diff_tex
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES
 from projects.models import ChangeLogEntry, Context, Project, RecordState, Relationship, Role
 from projects.record import reads
-from projects.record.changes import Actor
+from projects.record.changes import Actor, imported_provenance
 from projects.record.errors import RecordConflict, RecordError, RecordInvalid, RecordNotFound
 from projects.record.representation import relationship_text
 
@@ -78,15 +78,16 @@ def log_action(project: Project, actor: Actor, action: str, *, kind: str, object
     """One change-log entry at the project's current record revision (not bumped)."""
     user = actor.user if getattr(actor.user, "is_authenticated", False) else None
     revision = Project.objects.filter(pk=project.pk).values_list("revision", flat=True).get()
+    common = dict(user=user, user_name=getattr(user, "username", "") if user else "", token=actor.token,
+                  device=actor.device_name, request_id=actor.request_id)
+    now = timezone.now()
+    if actor.imported is not None:  # a replayed action keeps its original provenance
+        now, common = imported_provenance(actor.imported, common)
     return ChangeLogEntry.objects.create(
         project=project,
         revision=revision,
-        created_at=timezone.now(),
-        user=user,
-        user_name=getattr(user, "username", "") if user else "",
-        token=actor.token,
-        device=actor.device_name,
-        request_id=actor.request_id,
+        created_at=now,
+        **common,
         action=action,
         object_kind=kind,
         object_id=object_id,

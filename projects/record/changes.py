@@ -23,13 +23,35 @@ from projects.models import ChangeLogEntry, Project, RecordState, Revision
 
 
 @dataclass(frozen=True)
+class ImportedProvenance:
+    """Where a replayed change really came from (a project package being imported).
+
+    The change log and the revision then keep the original time, user name,
+    device and request id; ``user`` is the matching account in the target
+    organisation, or None when the original actor is known only by name.
+    Who ran the import is recorded by the import itself (``exchange``).
+    """
+
+    at: object
+    user_name: str
+    device: str = ""
+    request_id: str = ""
+    user: object | None = None
+
+
+@dataclass(frozen=True)
 class Actor:
-    """Who makes a change: a user, the device token used, and the request."""
+    """Who makes a change: a user, the device token used, and the request.
+
+    ``imported`` (keyword only, optional) replaces the provenance written to
+    the log with that of the original change; see ``ImportedProvenance``.
+    """
 
     user: object
     token: object | None = None
     request_id: str = ""
     device: str = ""
+    imported: ImportedProvenance | None = field(default=None, kw_only=True)
 
     @property
     def device_name(self) -> str:
@@ -100,6 +122,8 @@ class ChangeSet:
             device=self.actor.device_name,
             request_id=self.actor.request_id,
         )
+        if self.actor.imported is not None:
+            now, common = imported_provenance(self.actor.imported, common)
         ChangeLogEntry.objects.bulk_create(
             [
                 ChangeLogEntry(
@@ -130,6 +154,12 @@ class ChangeSet:
         self.project.revision = self.revision
         self.project.record_digest = revision.digest
         return revision
+
+
+def imported_provenance(imported: ImportedProvenance, common: dict) -> tuple[object, dict]:
+    """The time and log fields of a replayed change: the original ones, no token."""
+    return imported.at, {**common, "user": imported.user, "user_name": imported.user_name[:150],
+                         "token": None, "device": imported.device[:100], "request_id": imported.request_id[:64]}
 
 
 def _digest(parent: str, entries: list[_Entry]) -> str:
