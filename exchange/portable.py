@@ -122,9 +122,9 @@ class KeyMap:
     # -- interpretation content ---------------------------------------------
 
     def content_out(self, content: dict) -> dict:
-        return map_content(content, lambda pk: self.uid["context"].get(pk, pk),
+        return _sorted_unordered(map_content(content, lambda pk: self.uid["context"].get(pk, pk),
                            lambda pk: self.uid["relationship"].get(pk, pk),
-                           lambda kind, pk: self.uid[kind].get(int(pk), pk) if str(pk).isdigit() else pk)
+                           lambda kind, pk: self.uid[kind].get(int(pk), pk) if str(pk).isdigit() else pk))
 
     def content_in(self, content: dict) -> dict:
         return map_content(content, lambda uid: self.row["context"].get(uid, uid),
@@ -160,6 +160,17 @@ class KeyMap:
         if isinstance(out.get("content_hash"), str):
             out["content_hash"] = self.content_hash.get(out["content_hash"], out["content_hash"])
         return out
+
+
+#: Lists of a document with no order of their own; sorted again once their references are portable.
+UNORDERED = ("assignments", "equalities", "set_aside", "uncertain", "orderings", "evidence", "estimate")
+
+
+def _sorted_unordered(doc: dict) -> dict:
+    for name in UNORDERED:
+        if isinstance(doc.get(name), list):
+            doc[name] = sorted(doc[name], key=lambda item: json.dumps(item, sort_keys=True))
+    return doc
 
 
 def map_content(content: dict, context, relationship, evidence) -> dict:
