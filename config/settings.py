@@ -44,6 +44,7 @@ INSTALLED_APPS = [
     "chronology.interpretations",
     "chronology.runs",
     "demo",
+    "exchange",
     "api",
 ]
 

@@ -25,6 +25,29 @@ from .history import revision_digest
 
 
 @dataclass(frozen=True)
+class ImportedProvenance:
+    """Where a replayed change really came from (a project package being imported).
+
+    The change log and the revision then keep the original time, user name,
+    device and request id; ``user`` is the matching account in the target
+    organisation, or None when the original actor is known only by name.
+    Who ran the import is recorded by the import itself (``exchange``).
+    """
+
+    at: object
+    user_name: str
+    device: str = ""
+    request_id: str = ""
+    user: object | None = None
+
+
+def imported_provenance(imported: ImportedProvenance, common: dict) -> tuple[object, dict]:
+    """The time and log fields of a replayed change: the original ones, no token."""
+    return imported.at, {**common, "user": imported.user, "user_name": imported.user_name[:150],
+                         "token": None, "device": imported.device[:100], "request_id": imported.request_id[:64]}
+
+
+@dataclass(frozen=True)
 class Actor:
     """Who makes a change: a user, the device token used, and the request.
 
@@ -39,6 +62,8 @@ class Actor:
     request_id: str = ""
     device: str = ""
     client_request_id: str = ""
+    #: Keyword only: the original provenance of a replayed change (see ``ImportedProvenance``).
+    imported: ImportedProvenance | None = field(default=None, kw_only=True)
 
     @property
     def device_name(self) -> str:
@@ -115,6 +140,8 @@ class ChangeSet:
             request_id=self.actor.request_id,
             client_request_id=self.actor.client_request_id,
         )
+        if self.actor.imported is not None:
+            now, common = imported_provenance(self.actor.imported, common)
         rows = [
             ChangeLogEntry(
                 revision=self.revision, created_at=now, action=e.action, object_kind=e.kind, object_id=e.object_id,

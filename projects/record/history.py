@@ -88,10 +88,16 @@ def log_entry(project: Project, actor, action: str, *, kind: str, object_id, rep
     user = actor.user if getattr(actor.user, "is_authenticated", False) else None
     with transaction.atomic():
         locked = Project.objects.select_for_update().only("id", "revision", "head_digest").get(pk=project.pk)
+        now = timezone.now()
+        common = dict(user=user, user_name=getattr(user, "username", "") if user else "", token=actor.token,
+                      device=actor.device_name, request_id=actor.request_id,
+                      client_request_id=getattr(actor, "client_request_id", ""))
+        if getattr(actor, "imported", None) is not None:  # a replayed action keeps its original provenance
+            from .changes import imported_provenance
+
+            now, common = imported_provenance(actor.imported, common)
         entry = ChangeLogEntry(
-            project_id=locked.pk, revision=locked.revision, created_at=timezone.now(), user=user,
-            user_name=getattr(user, "username", "") if user else "", token=actor.token, device=actor.device_name,
-            request_id=actor.request_id, client_request_id=getattr(actor, "client_request_id", ""),
+            project_id=locked.pk, revision=locked.revision, created_at=now, **common,
             action=action, object_kind=kind, object_id=object_id, object_repr=repr_[:200],
             before=before, after=after, message=message,
         )
