@@ -43,6 +43,7 @@ INSTALLED_APPS = [
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
+    "demo",
     "api",
 ]
 

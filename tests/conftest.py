@@ -156,3 +156,30 @@ def client_for(users):
 def api(client_for):
     """A recorder's token client."""
     return client_for(Role.RECORDER)
+
+
+@pytest.fixture(autouse=True)
+def _stored_versions_meet_the_published_schema(request):
+    """After every test that used the database, each stored version's content meets the schema.
+
+    Checked with the ``jsonschema`` library's own Draft 2020-12 validator, so a
+    document the service stored can be read by anyone holding the schema file.
+    """
+    uses_db = request.node.get_closest_marker("django_db") or {"db", "transactional_db"} & set(request.fixturenames)
+    if not uses_db:
+        yield
+        return
+    request.getfixturevalue("transactional_db" if "transactional_db" in request.fixturenames else "db")
+    yield
+    from django.db import connection
+    from jsonschema import Draft202012Validator
+
+    from chronology.interpretations.content_schema import schema
+    from chronology.interpretations.models import Version
+
+    if connection.needs_rollback:
+        return  # the test broke its own transaction on purpose; nothing can be read in it
+    validator = Draft202012Validator(schema())
+    for number, content in Version.objects.values_list("number", "content"):
+        problems = [f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in validator.iter_errors(content)]
+        assert not problems, f"version {number} breaks the published schema: {problems}"
