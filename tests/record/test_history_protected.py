@@ -119,3 +119,21 @@ def test_verify_record_finds_a_forged_state_row(recorded):
             ['{"label": "9999"}', state.pk])
     _head, broken, _links = history.verify(recorded)
     assert (broken.kind, broken.revision) == ("revision", 1)
+
+
+def test_verify_record_finds_a_tampered_approval(recorded, actor):
+    entry = history.log_entry(recorded, actor, "interpretation.version.approved", kind="interpretation_version",
+                              object_id=1, repr_="Phasing v1")
+    assert history.verify(recorded)[1] is None
+    _tamper(("UPDATE projects_changelogentry SET action = %s WHERE id = %s", "projects_changelogentry"),
+            ["interpretation.version.rejected", entry.pk])
+    _head, broken, _links = history.verify(recorded)
+    assert (broken.kind, broken.entry_id) == ("workflow entry", entry.pk)
+
+
+def test_a_workflow_entry_moves_the_head_but_not_the_revision(recorded, actor):
+    before = (recorded.revision, history.head_digest(recorded))
+    history.log_entry(recorded, actor, "interpretation.version.proposed", kind="interpretation_version",
+                      object_id=1, repr_="Phasing v1")
+    recorded.refresh_from_db()
+    assert recorded.revision == before[0] and history.head_digest(recorded) != before[1]
