@@ -44,6 +44,7 @@ INSTALLED_APPS = [
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
+    "demo",
     "api",
 ]
 

@@ -126,3 +126,18 @@ class ExportView(ProjectScopedMixin, APIView):
         suffix = "-reduced" if reduced else ""
         response["Content-Disposition"] = f'attachment; filename="{found.code}-r{revision}{suffix}.{ext}"'
         return response
+
+
+class ImpliedByView(ProjectScopedMixin, APIView):
+    """Whether a relationship is redundant, with the full path of direct relationships implying it.
+
+    The check report gives each redundant relationship a compact witness; this
+    spells out the whole path for one of them, later end first.
+    """
+
+    @extend_schema(parameters=[AT], responses=OpenApiTypes.OBJECT)
+    def get(self, request, project, relationship):
+        found = self.get_project()
+        revision = reads.resolve_revision(found, request.query_params.get("at"))
+        return Response(order_service.implied_by(found, relationship, revision))
+

@@ -60,10 +60,10 @@ def test_results_give_hpd_ranges_medians_questions_and_outliers_with_the_caution
     undated = next(e for e in results["events"] if e["key"] == f"ctx:{site['contexts']['1004'].id}")
     assert undated["estimated_from_order_only"] is True
     kinds = {q["kind"]: q for q in results["questions"]}
-    assert set(kinds) == {"span", "order", "interval"}
+    assert set(kinds) == {"duration", "precedence", "gap"}
     # the stratigraphy puts 1003 below 1006, so the order probability is one
-    assert kinds["order"]["probability"] == 1.0
-    assert kinds["span"]["mcse"] is not None and kinds["span"]["mean"] > 0
+    assert kinds["precedence"]["probability"] == 1.0
+    assert kinds["duration"]["mcse"] is not None and kinds["duration"]["mean"] > 0
     assert {o["prior"] for o in results["outliers"]} == {0.05}
     assert all(0.0 <= o["posterior"] <= 1.0 for o in results["outliers"])
     assert run.summary["convergence"]["converged"] == run.converged
