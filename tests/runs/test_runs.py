@@ -64,8 +64,8 @@ def test_results_give_hpd_ranges_medians_questions_and_outliers_with_the_caution
     # the stratigraphy puts 1003 below 1006, so the order probability is one
     assert kinds["precedence"]["probability"] == 1.0
     assert kinds["duration"]["mcse"] is not None and kinds["duration"]["mean"] > 0
-    assert {o["prior"] for o in results["outliers"]} == {0.05}
-    assert all(0.0 <= o["posterior"] <= 1.0 for o in results["outliers"])
+    assert {o["chance_assumed"] for o in results["outliers"]} == {0.05}
+    assert all(0.0 <= o["chance_estimated"] <= 1.0 for o in results["outliers"])
     assert run.summary["convergence"]["converged"] == run.converged
 
 
