@@ -159,6 +159,22 @@ def _smooth(hist: np.ndarray, values: np.ndarray, step: float) -> np.ndarray:
     return out / out.sum()
 
 
+def _within_draws(ranges: list[HPDRange], values: np.ndarray) -> list[HPDRange]:
+    """Clip smoothed-density ranges to the extent of the draws.
+
+    Smoothing spreads mass past a hard bound of the model (a terminus, an
+    outlier-free order constraint); every draw respects those bounds, so no
+    reported range may run past the earliest or latest draw.
+    """
+    lo, hi = float(values.min()), float(values.max())
+    out = []
+    for r in ranges:
+        a, b = max(r.start, lo), min(r.end, hi)
+        if a <= b:
+            out.append(HPDRange(a, b, r.probability))
+    return out or [HPDRange(lo, hi, 1.0)]
+
+
 def _hpd_from_samples(values: np.ndarray, step: float) -> dict:
     lo, hi = float(values.min()), float(values.max())
     if hi - lo < step:
@@ -172,7 +188,7 @@ def _hpd_from_samples(values: np.ndarray, step: float) -> dict:
     if centres.size < 2:
         return {m: [HPDRange(lo, hi, 1.0)] for m in HPD_MASSES}
     dens = _smooth(counts / counts.sum(), values, step)
-    return {m: hpd_regions(centres, dens, m) for m in HPD_MASSES}
+    return {m: _within_draws(hpd_regions(centres, dens, m), values) for m in HPD_MASSES}
 
 
 def summarise(
@@ -234,7 +250,7 @@ def summarise(
             if np.isfinite(ll.max()):
                 lik = np.exp(ll - ll.max())
                 lik /= lik.sum()
-        hpd = {m: hpd_regions(years, density, m) for m in HPD_MASSES}
+        hpd = {m: _within_draws(hpd_regions(years, density, m), v) for m in HPD_MASSES}
         med = float(np.median(v))
         sd = float(v.std(ddof=1)) if n > 1 else 0.0
         events.append(EventSummary(

@@ -39,9 +39,9 @@ __all__ = ["CAUTION", "NOT_CONVERGED", "load_model", "load_chain", "combine_draw
            "summary_for_database", "read_chain_file", "write_chain_file"]
 
 NOT_CONVERGED = (
-    f"NOT CONVERGED: at least one reported quantity has R-hat above {R_HAT_MAX} or a bulk effective sample "
-    f"size below {ESS_BULK_MIN:g} (Vehtari et al. 2021). Continue the run for more iterations before using "
-    "these results."
+    f"NOT CONVERGED: at least one reported quantity has R-hat above {R_HAT_MAX} or a bulk or tail effective "
+    f"sample size below {ESS_BULK_MIN:g} (Vehtari et al. 2021). Continue the run for more iterations before "
+    "using these results."
 )
 
 
@@ -218,6 +218,8 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
                      "continues": str(run.parent_id) if run.parent_id else None},
         "software": {"commit": run.software_commit, "libraries": dict(run.library_versions)},
         "converged": converged,
+        "verdict": getattr(run, "verdict", None),
+        "timings": dict(getattr(run, "timings", None) or {}),
         "convergence": {
             "converged": converged,
             "warning": None if converged else NOT_CONVERGED,

@@ -102,3 +102,24 @@ def test_outlier_posterior_is_shown_beside_its_prior(run):
     (o,) = s.outliers
     assert o.evidence_key == "VXL-0101" and o.event_key == "ctx:1001" and o.prior == 0.05
     assert 0.0 <= o.posterior < 0.2 and o.mcse >= 0
+
+
+def test_no_reported_range_runs_past_a_terminus_post_quem():
+    # a hard bound: the event is not before AD 260 (a coin), so no range may start earlier
+    from chronology.engine.evidence_likelihoods import terminus_post_quem
+    from chronology.engine.grid import CalendarGrid
+    from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
+    from chronology.engine.posterior import summarise
+
+    grid = CalendarGrid(0.0, 1.0, 1001)
+    normal = -0.5 * ((grid.years - 255.0) / 40.0) ** 2
+    model = compile_model(grid, phases=[PhaseInput("P", ("a",))], order=[],
+                          evidence=[EvidenceInput("rc", "a", normal),
+                                    EvidenceInput("coin", "a", terminus_post_quem(grid, 260.0).log_values,
+                                                  kind="tpq")],
+                          range_lo=0.0, range_hi=1000.0)
+    res = run_chains(model, entropy=3031, n_chains=2, iterations=2000, warmup=300)
+    draws = np.stack([r.draws for r in res])
+    event = next(e for e in summarise(model, draws).events if e.key == "ctx:a")
+    assert draws[..., model.event_keys.index("ctx:a")].min() >= 259.5
+    assert all(r.start >= 259.5 for rs in event.hpd.values() for r in rs)

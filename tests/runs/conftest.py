@@ -96,4 +96,4 @@ def commit_content(project, analyst, content, name):
     return interpretations.commit(draft, analyst)
 
 
-SMALL = {"chains": 2, "iterations": 400, "warmup": 100, "thin": 1}
+SMALL = {"chains": 2, "iterations": 400, "warmup": 100, "thin": 1, "converge": False}

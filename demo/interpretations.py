@@ -1,10 +1,10 @@
-"""The interpretations step of the demo (see projects/demo/steps.py).
+"""The interpretations step of the demo (see demo/steps.py).
 
 Two competing readings of Vellmarsh Lane (VML24), both invented:
 
 * "Hearth with the floor" accepts the doubtful link between hearth 2032 and
   clay floor 2030 (recorded as an uncertain "contemporary with") and phases
-  every context as ``projects.demo.vellmarsh.PHASE_OF`` does;
+  every context as ``demo.vellmarsh.PHASE_OF`` does;
 * "Hearth apart" leaves that link undecided, leaves the two uncertain cuts
   (1060 through 1004, 3030 through 3052) undecided too, and puts post-hole
   3080 and its fill 3081 with the stone building's construction instead of
@@ -25,16 +25,16 @@ from django.db import transaction
 
 from chronology import jobs
 from chronology.models import JobState
-from projects.demo import vellmarsh
-from projects.demo.outputs import write_output as _write
+from demo import vellmarsh
+from demo.outputs import write_output as _write
 from projects.models import Relationship
 from projects.record.changes import Actor
 
-from . import alternatives, services
-from .content import content_hash
-from .models import Interpretation, Reading, Status, Version
+from chronology.interpretations import alternatives, services
+from chronology.interpretations.content import content_hash
+from chronology.interpretations.models import Interpretation, Reading, Status, Version
 
-__all__ = ["STEPS", "interpretations_step"]
+__all__ = ["interpretations_step"]
 
 FIRST = "Hearth with the floor"
 SECOND = "Hearth apart"
@@ -206,6 +206,3 @@ def interpretations_step(state, stdout):
                  f"{second} proposed; {len(diff['text'].splitlines()) - 1} differences; "
                  f"alternatives of {second}: {analysis.get('consistent_count', '?')} consistent of "
                  f"2^{analysis.get('k', '?')} ({'exact' if analysis.get('exact') else 'bounded'})")
-
-
-STEPS = [interpretations_step]

@@ -1,4 +1,4 @@
-"""The runs step of the demo (see projects/demo/steps.py).
+"""The runs step of the demo (see demo/steps.py).
 
 Samples the approved demonstration interpretation of Vellmarsh Lane (VML24)
 in this process and writes its summary table (Markdown and JSON) and the
@@ -10,9 +10,9 @@ from __future__ import annotations
 
 import json
 
-from projects.demo.outputs import write_output as _write
+from demo.outputs import write_output as _write
 
-__all__ = ["STEPS", "model_step", "DEMO_SEED"]
+__all__ = ["model_step", "DEMO_SEED"]
 
 #: Fixed seed entropy, so the demo gives the same numbers on every run.
 DEMO_SEED = 20240517
@@ -54,6 +54,3 @@ def model_step(state, stdout):
     verdict = "converged" if run.converged else "NOT converged (continue the run for more iterations)"
     stdout.write(f"  run {run.pk}: {len(run.summary['events'])} events, {run.chains} chains, {verdict}; "
                  f"{run.timings.get('wall_seconds') or 0:.1f} s\n")
-
-
-STEPS = [model_step]

@@ -14,15 +14,12 @@ from __future__ import annotations
 from chronology.engine.legacy_names import event_ref, question_kind
 from chronology.engine.model_compiler import QuestionInput, beginning_key, changeover_key, close_key
 
+from .compile_evidence import KIND_ALIASES
+from .model_inputs import ModelRefused
+
 __all__ = ["boundary_keys", "boundary_labels", "compile_questions"]
 
-_EVIDENCE_KINDS = {"sample": "sample", "determination": "determination", "calendar_date": "calendar",
-                   "terminus": "terminus"}
-
-
 def _refuse(message: str, **details):
-    from chronology.runs.compile import ModelRefused  # the refusal type lives with the compiler
-
     raise ModelRefused("invalid-question", message, **details)
 
 
@@ -86,7 +83,7 @@ def compile_questions(reading, rep: dict, terms, event_labels: dict) -> tuple[li
             return f"ctx:{rep[c]}", f"context {event_labels.get(rep[c], rep[c])}"
         if kind == "evidence":
             ek, _, number = rest.partition(":")
-            t = by_key.get(f"{_EVIDENCE_KINDS.get(ek, ek)}:{number}")
+            t = by_key.get(f"{KIND_ALIASES.get(ek, ek)}:{number}")
             if t is None or t.use == "excluded":
                 _refuse(f"question {i + 1} names evidence the model does not use", question=i, evidence=rest)
             if t.use == "included":

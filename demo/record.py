@@ -7,6 +7,7 @@ changes nothing and returns the same answers.
 
 from __future__ import annotations
 
+import json
 import uuid
 
 from django.contrib.auth import get_user_model
@@ -17,7 +18,8 @@ from projects.record.changes import Actor
 from projects.record.errors import RecordConflict
 from projects.record.sync import sync_batch
 
-from . import vellmarsh
+from demo import vellmarsh
+from demo.outputs import write_output as _write
 
 NAMESPACE = uuid.UUID("6f1c8f7e-58a1-4d8e-9a53-6c1d2b7b9e10")
 
@@ -119,3 +121,39 @@ def load_demo_record() -> dict:
                      "contexts": len(a["contexts"]), "relationships": len(a["relationships"])} for a in answers],
         "refused": refused,
     }
+
+
+def record_step(state, stdout):
+    """Record: load Vellmarsh Lane (VML24) through the write path and show a refused mistake."""
+    summary = load_demo_record()
+    project = summary["project"]
+    state["project"] = project
+    state["users"] = summary["users"]
+    refused = summary["refused"]
+    lines = [
+        "# Vellmarsh Lane (VML24) — record",
+        "",
+        "Invented demonstration site of Northfold Field Archaeology; not a real excavation.",
+        "",
+        f"Record revision: {project.revision}",
+        f"Contexts: {project.context_set.filter(retracted_revision__isnull=True).count()}",
+        f"Relationships: {project.relationship_set.filter(retracted_revision__isnull=True).count()}",
+        "",
+        "## Sync batches",
+    ]
+    for batch in summary["batches"]:
+        lines.append(f"- batch {batch['batch_id']}: {batch['contexts']} contexts, {batch['relationships']} relationships "
+                     f"(revision {batch['revision']})")
+    lines += ["", "## Relationship refused at the write-time check"]
+    if refused:
+        lines.append(f"Posted: {refused['relationship']} — refused ({refused['code']}): {refused['message']}")
+        lines.append("")
+        lines.append("The cycle it would close, as recorded relationships:")
+        for step in refused.get("cycle", []):
+            ident = "proposed" if step["proposed"] else f"#{step['id']}"
+            lines.append(f"  {step['relationship']} ({ident})")
+    else:
+        lines.append("(none: the mistake was not refused — this is a bug)")
+    _write(state, "record-report.md", "\n".join(lines) + "\n")
+    _write(state, "record-refused.json", json.dumps(refused, indent=2))
+    stdout.write(f"  {project.code} at revision {project.revision}; mistake refused: {bool(refused)}")

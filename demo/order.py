@@ -9,8 +9,8 @@ from django.db import transaction
 from chronology import jobs, order_service
 from chronology.models import CheckReport
 from chronology.tasks import run_order_check
-from projects.demo.outputs import write_output as _write
-from projects.demo.vellmarsh import PHASE_OF, PHASES
+from demo.outputs import write_output as _write
+from demo.vellmarsh import PHASE_OF, PHASES
 from projects.record import reads
 
 
@@ -49,6 +49,3 @@ def order_step(state, stdout):
                 body = json.dumps(body, indent=1)
             _write(state, f"order{'-reduced' if reduced else ''}.{ext}", body)
     stdout.write(f"  check ok={report['ok']}, {len(report['issues'])} issue(s); diagram and exports written")
-
-
-STEPS = [order_step]

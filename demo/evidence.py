@@ -1,4 +1,4 @@
-"""The evidence step of the demo (see projects/demo/steps.py).
+"""The evidence step of the demo (see demo/steps.py).
 
 Dating evidence for Vellmarsh Lane (VML24), all invented: radiocarbon ages
 are simulated from invented true dates through the engine's labelled
@@ -18,15 +18,15 @@ from chronology.engine.grid import CalendarGrid
 from chronology.engine.plots.calibration_plot import calibration_plot
 from chronology.engine.radiocarbon import f14c_from_cra
 from chronology.engine.synthetic_curve import SYNTHETIC_NOTICE, synthetic_curve
-from projects.demo.load import uid_for
-from projects.demo.outputs import write_output as _write
+from demo.record import uid_for
+from demo.outputs import write_output as _write
 from projects.record.changes import Actor
 
-from . import calibrate, writes
-from .curves import import_curve
-from .representation import calendar_year
+from chronology.evidence import calibrate, writes
+from chronology.evidence.curves import import_curve
+from chronology.evidence.representation import calendar_year
 
-__all__ = ["STEPS", "evidence_step", "SAMPLES", "DETERMINATIONS"]
+__all__ = ["evidence_step", "SAMPLES", "DETERMINATIONS"]
 
 SEED = 2024
 
@@ -213,6 +213,3 @@ def _markdown(project, curve, rows, combination, felling, coin) -> str:
               "- Charcoal S106 from hearth 2032 is long-lived wood: its date may be older than the hearth's use.",
               "", f"**{calibrate.CAUTION}**", f"**{SYNTHETIC_LINE}**", ""]
     return "\n".join(lines)
-
-
-STEPS = [evidence_step]

@@ -14,7 +14,7 @@ from pathlib import Path
 from django.core.management import call_command
 from django.core.management.base import BaseCommand
 
-from projects.demo.steps import STEPS
+from demo.steps import STEPS
 
 
 class Command(BaseCommand):
