@@ -140,7 +140,10 @@ def draw_heading(fig: Figure, heading: FigureHeading, what: str, *, top_in: floa
                  width_chars: int = 130) -> None:
     """The title at the top (``top_in`` inches reserved) of a figure ``height_in`` inches high."""
     colour = COLOURS["warning"] if heading.not_converged else COLOURS["ink"]
-    fig.text(0.02, 1 - 0.12 / height_in, heading.title(what), ha="left", va="top", fontsize=10.5,
+    title = heading.title(what)
+    # A long heading (a run's full id) gets a smaller type rather than running off the figure.
+    size = 10.5 if max(len(line) for line in title.splitlines()) <= 95 else 8.5
+    fig.text(0.02, 1 - 0.12 / height_in, title, ha="left", va="top", fontsize=size,
              color=colour, weight="bold", linespacing=1.35, gid="figure-title")
 
 
