@@ -63,6 +63,7 @@ class _RecordStateViewSet(ProjectScopedViewSet):
 class ContextViewSet(_RecordStateViewSet):
     kind = "context"
     filterset_class = ContextStateFilter
+    input_serializers = {"create": ContextInput, "partial_update": ContextEdit, "retract": RetractInput}
 
     @extend_schema(parameters=[AT], responses=ContextOut(many=True))
     def list(self, request, project=None):
@@ -109,6 +110,7 @@ class ContextViewSet(_RecordStateViewSet):
 class RelationshipViewSet(_RecordStateViewSet):
     kind = "relationship"
     filterset_class = RelationshipStateFilter
+    input_serializers = {"create": RelationshipInput, "retract": RetractInput}
 
     def rows(self, states) -> list[dict]:
         data = [s.data for s in states]
@@ -173,6 +175,8 @@ class RevisionViewSet(mixins.ListModelMixin, ProjectScopedViewSet):
 
 class SyncViewSet(ProjectScopedViewSet):
     """Batch sync for field apps (all-or-nothing; replay-safe)."""
+
+    input_serializers = {"create": SyncInput}
 
     @extend_schema(request=SyncInput, responses={200: OpenApiTypes.OBJECT})
     @idempotent

@@ -39,6 +39,7 @@ class RunViewSet(ProjectScopedViewSet):
     read_role = Role.VIEWER
     write_role = Role.ANALYST
     action_roles = {"cancel": Role.ANALYST, "continue_": Role.ANALYST}
+    input_serializers = {"create": RunInput, "continue_": ContinueInput}
 
     def get_queryset(self):
         return Run.objects.filter(project=self.get_project()).select_related("project").prefetch_related("chain_rows")
