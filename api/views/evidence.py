@@ -14,12 +14,13 @@ from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import exceptions, status, viewsets
 from rest_framework.decorators import action
-from rest_framework.parsers import FormParser, JSONParser, MultiPartParser
+from rest_framework.parsers import FormParser, MultiPartParser
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from api.errors import ApiError
 from api.idempotency import idempotent
+from api.parsers import BoundedJSONParser
 from api.serializers.evidence import (
     CalendarDateInput,
     CalendarDateOut,
@@ -343,7 +344,7 @@ class CalibrateView(ProjectScopedMixin, APIView):
 class CurveViewSet(DescribedInputMixin, viewsets.GenericViewSet):
     """Calibration curves visible to the caller: global ones and their organisations'."""
 
-    parser_classes = [JSONParser, MultiPartParser, FormParser]
+    parser_classes = [BoundedJSONParser, MultiPartParser, FormParser]
     lookup_value_regex = r"\d+"
     input_serializers = {"create": CurveImportInput}
 
