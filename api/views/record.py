@@ -10,6 +10,7 @@ from rest_framework.response import Response
 
 from api.filters import ChangeFilter, ContextStateFilter, RelationshipStateFilter
 from api.idempotency import idempotent
+from api.serializers.sync import validated_items
 from api.serializers.record import (
     ChangeOut,
     ContextEdit,
@@ -183,5 +184,5 @@ class SyncViewSet(ProjectScopedViewSet):
     def create(self, request, project=None):
         data = SyncInput(data=request.data)
         data.is_valid(raise_exception=True)
-        answer = sync_batch(self.get_project(), actor_for(request), **data.validated_data)
+        answer = sync_batch(self.get_project(), actor_for(request), **validated_items(data.validated_data))
         return Response(answer)
