@@ -21,11 +21,16 @@ def validated_items(data: dict) -> dict:
     for collection, serializer_class in _SERIALIZERS.items():
         items = []
         for index, item in enumerate(data.get(collection) or []):
+            uid = item.get("uid") if isinstance(item, dict) else None
             serializer = serializer_class(data=item)
-            if serializer.is_valid():
+            # A batch is a record of field work: an attribute we do not keep is refused, not dropped.
+            unknown = sorted(set(item) - set(serializer.fields)) if isinstance(item, dict) else []
+            for name in unknown:
+                errors.append({"collection": collection, "index": index, "uid": uid, "field": name,
+                               "code": "unknown-field", "message": f"{name!r} is not an attribute of an item"})
+            if serializer.is_valid() and not unknown:
                 items.append(dict(serializer.validated_data))
                 continue
-            uid = item.get("uid") if isinstance(item, dict) else None
             for entry in _flatten(serializer.errors):
                 errors.append({"collection": collection, "index": index, "uid": uid, **entry})
         out[collection] = items
