@@ -12,6 +12,7 @@ stable code; domain details (the cycle, the existing object) ride on the entry.
 from __future__ import annotations
 
 from django.core.exceptions import PermissionDenied as DjangoPermissionDenied
+from django.core.exceptions import RequestDataTooBig, TooManyFieldsSent
 from django.core.exceptions import ValidationError as DjangoValidationError
 from django.http import Http404
 from rest_framework import exceptions, status
@@ -78,7 +79,22 @@ def _flatten(detail, prefix: str | None = None) -> list[dict]:
     return [{"field": prefix, "code": str(code).replace("_", "-"), "message": str(detail)}]
 
 
+def _too_large_error(exc) -> dict:
+    """The error entry for a body Django refused while reading it, naming the limit."""
+    from django.conf import settings
+
+    if isinstance(exc, TooManyFieldsSent):
+        limit = settings.DATA_UPLOAD_MAX_NUMBER_FIELDS
+        return {"field": None, "code": "too-many-fields",
+                "message": f"the form has more than {limit} fields", "limit": limit}
+    limit = settings.DATA_UPLOAD_MAX_MEMORY_SIZE
+    return {"field": None, "code": "body-too-large",
+            "message": f"the request body is larger than the limit of {limit} bytes", "limit": limit}
+
+
 def exception_handler(exc, context):
+    if isinstance(exc, (RequestDataTooBig, TooManyFieldsSent)):
+        return error_response(status.HTTP_413_REQUEST_ENTITY_TOO_LARGE, [_too_large_error(exc)])
     if isinstance(exc, RecordError):
         return error_response(exc.status, [exc.as_error()])
     if isinstance(exc, EngineError):
@@ -109,7 +125,7 @@ def exception_handler(exc, context):
     return error_response(response.status_code, errors, headers=headers)
 
 
-def _plain_error(request, status_code: int, code: str, message: str):
+def _plain_error(request, status_code: int, code: str, message: str, **details):
     from django.http import JsonResponse
 
     body = {
@@ -117,9 +133,22 @@ def _plain_error(request, status_code: int, code: str, message: str):
         "code": code,
         "message": message,
         "request_id": getattr(request, "request_id", "") or current_request_id(),
-        "errors": [{"field": None, "code": code, "message": message}],
+        "errors": [{"field": None, "code": code, "message": message, **details}],
     }
     return JsonResponse(body, status=status_code)
+
+
+def too_large_response(request, exc):
+    """Django raises these while reading a body, outside DRF: the JSON body, never HTML."""
+    error = _too_large_error(exc)
+    return _plain_error(request, 413, error.pop("code"), error.pop("message"), **{k: v for k, v in error.items() if k != "field"})
+
+
+def bad_request_view(request, exception=None):
+    """Django's 400s (a suspicious request, a body over the limit read outside DRF) as the JSON error body."""
+    if isinstance(exception, (RequestDataTooBig, TooManyFieldsSent)):
+        return too_large_response(request, exception)
+    return _plain_error(request, 400, "bad-request", "the request could not be read")
 
 
 def not_found_view(request, exception=None):

@@ -36,3 +36,14 @@ class RequestIdMiddleware:
             _request_id.reset(token)
         response["X-Request-ID"] = request_id
         return response
+
+    def process_exception(self, request, exception):
+        # A body over Django's limit read outside DRF (a form, request.body) would
+        # otherwise become Django's HTML 400.
+        from django.core.exceptions import RequestDataTooBig, TooManyFieldsSent
+
+        if isinstance(exception, (RequestDataTooBig, TooManyFieldsSent)):
+            from api.errors import too_large_response
+
+            return too_large_response(request, exception)
+        return None

@@ -128,6 +128,11 @@ REST_FRAMEWORK = {
     "DEFAULT_FILTER_BACKENDS": ["django_filters.rest_framework.DjangoFilterBackend"],
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     "EXCEPTION_HANDLER": "api.errors.exception_handler",
+    "DEFAULT_PARSER_CLASSES": [
+        "api.parsers.BoundedJSONParser",
+        "rest_framework.parsers.FormParser",
+        "rest_framework.parsers.MultiPartParser",
+    ],
     "DEFAULT_THROTTLE_CLASSES": [
         "rest_framework.throttling.UserRateThrottle",
         "rest_framework.throttling.AnonRateThrottle",
@@ -151,6 +156,10 @@ SPECTACULAR_SETTINGS = {
     "SERVE_INCLUDE_SCHEMA": False,
     "COMPONENT_SPLIT_REQUEST": True,
 }
+
+#: The largest request body (bytes; 413 beyond it) and the deepest JSON nesting accepted (400 beyond it).
+DATA_UPLOAD_MAX_MEMORY_SIZE = env_int("TELLSTACK_MAX_BODY_BYTES", 8 * 1024 * 1024)
+TELLSTACK_MAX_JSON_DEPTH = env_int("TELLSTACK_MAX_JSON_DEPTH", 32)
 
 #: Calendar grid step (years) for calibration and models.
 TELLSTACK_CALIBRATION_STEP = float(env_str("TELLSTACK_CALIBRATION_STEP", "1"))

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from rest_framework import exceptions, viewsets
+from rest_framework import exceptions, serializers, viewsets
 
 from api.errors import ApiError
 from api.permissions import ProjectRolePermission
@@ -15,7 +15,7 @@ def find_project(user, ref: str) -> Project:
     A project of another organisation is not in the caller's queryset at all,
     so it is indistinguishable from one that does not exist.
     """
-    if user is None or not user.is_authenticated:
+    if user is None or not user.is_authenticated or "\x00" in ref:  # no code holds NUL (nor can PostgreSQL text)
         raise exceptions.NotFound(f"no project {ref!r}")
     org_slug, code = ref.split(":", 1) if ":" in ref else (None, ref)
     if user.is_superuser:
@@ -92,7 +92,27 @@ class ProjectScopedMixin:
         return self.read_role if request.method in ("GET", "HEAD", "OPTIONS") else self.write_role
 
 
-class ProjectScopedViewSet(ProjectScopedMixin, viewsets.GenericViewSet):
+class DescribedInputMixin:
+    # Names the input serializer of each action, for OPTIONS and the browsable API:
+    # DRF's metadata and HTML forms ask a view for get_serializer() under the method
+    # being described; our views validate input with a serializer per action, so the
+    # action that method routes to picks it, and an action without a body gets an
+    # empty one.  (A comment, not a docstring: the schema would show it on every view.)
+
+    input_serializers: dict[str, type] = {}
+
+    def get_serializer_class(self):
+        if getattr(self, "serializer_class", None) is not None:
+            return self.serializer_class
+        action = getattr(self, "action", None)
+        routed = getattr(self, "action_map", {}) or {}
+        request = getattr(self, "request", None)
+        if request is not None and request.method.lower() in routed:
+            action = routed[request.method.lower()]
+        return self.input_serializers.get(action, serializers.Serializer)
+
+
+class ProjectScopedViewSet(ProjectScopedMixin, DescribedInputMixin, viewsets.GenericViewSet):
     lookup_value_regex = r"\d+"
 
     def get_queryset(self):  # a forgotten override must fail loudly, never leak
@@ -103,4 +123,4 @@ def truthy(value) -> bool:
     return str(value).lower() in {"1", "true", "yes", "on"}
 
 
-__all__ = ["find_project", "ProjectScopedMixin", "ProjectScopedViewSet", "truthy"]
+__all__ = ["find_project", "DescribedInputMixin", "ProjectScopedMixin", "ProjectScopedViewSet", "truthy"]

@@ -36,6 +36,8 @@ class CheckListView(ProjectScopedMixin, APIView):
     @extend_schema(parameters=[AT], request=None, responses={202: OpenApiTypes.OBJECT})
     def post(self, request, project):
         found = self.get_project()
+        if not isinstance(request.data, dict):
+            raise ApiError(400, "invalid", "the body, if any, must be a JSON object such as {\"at\": 12}")
         revision = reads.resolve_revision(found, request.query_params.get("at") or request.data.get("at"))
         stored = CheckReport.objects.filter(project=found, revision=revision).first()
         if stored is not None:

@@ -14,12 +14,13 @@ from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import exceptions, status, viewsets
 from rest_framework.decorators import action
-from rest_framework.parsers import FormParser, JSONParser, MultiPartParser
+from rest_framework.parsers import FormParser, MultiPartParser
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from api.errors import ApiError
 from api.idempotency import idempotent
+from api.parsers import BoundedJSONParser
 from api.serializers.evidence import (
     CalendarDateInput,
     CalendarDateOut,
@@ -34,7 +35,7 @@ from api.serializers.evidence import (
     TerminusOut,
 )
 from api.serializers.record import RetractInput
-from api.views.base import ProjectScopedMixin, ProjectScopedViewSet, truthy
+from api.views.base import DescribedInputMixin, ProjectScopedMixin, ProjectScopedViewSet, truthy
 from chronology.engine.curves import curve_to_csv
 from chronology.evidence import calibrate, writes
 from chronology.evidence.curves import curve_summary, engine_curve, import_curve, may_import, resolve_curve
@@ -108,6 +109,8 @@ class _EvidenceViewSet(ProjectScopedViewSet):
         for param, key in self.filters.items():
             value = self.request.query_params.get(param)
             if value not in (None, ""):
+                if "\x00" in value:  # PostgreSQL text cannot hold NUL: refuse rather than fail in the query
+                    raise RecordInvalid(f"{param} must not contain NUL characters", field=param, code="invalid")
                 if key.endswith("_id"):
                     try:
                         value = int(value)
@@ -338,11 +341,12 @@ class CalibrateView(ProjectScopedMixin, APIView):
         })
 
 
-class CurveViewSet(viewsets.GenericViewSet):
+class CurveViewSet(DescribedInputMixin, viewsets.GenericViewSet):
     """Calibration curves visible to the caller: global ones and their organisations'."""
 
-    parser_classes = [JSONParser, MultiPartParser, FormParser]
+    parser_classes = [BoundedJSONParser, MultiPartParser, FormParser]
     lookup_value_regex = r"\d+"
+    input_serializers = {"create": CurveImportInput}
 
     def get_queryset(self):
         return Curve.objects.visible_to(self.request.user).select_related("table", "organisation").order_by("name", "id")

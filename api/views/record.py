@@ -10,6 +10,7 @@ from rest_framework.response import Response
 
 from api.filters import ChangeFilter, ContextStateFilter, RelationshipStateFilter
 from api.idempotency import idempotent
+from api.serializers.sync import validated_items
 from api.serializers.record import (
     ChangeOut,
     ContextEdit,
@@ -63,6 +64,7 @@ class _RecordStateViewSet(ProjectScopedViewSet):
 class ContextViewSet(_RecordStateViewSet):
     kind = "context"
     filterset_class = ContextStateFilter
+    input_serializers = {"create": ContextInput, "partial_update": ContextEdit, "retract": RetractInput}
 
     @extend_schema(parameters=[AT], responses=ContextOut(many=True))
     def list(self, request, project=None):
@@ -109,6 +111,7 @@ class ContextViewSet(_RecordStateViewSet):
 class RelationshipViewSet(_RecordStateViewSet):
     kind = "relationship"
     filterset_class = RelationshipStateFilter
+    input_serializers = {"create": RelationshipInput, "retract": RetractInput}
 
     def rows(self, states) -> list[dict]:
         data = [s.data for s in states]
@@ -174,10 +177,12 @@ class RevisionViewSet(mixins.ListModelMixin, ProjectScopedViewSet):
 class SyncViewSet(ProjectScopedViewSet):
     """Batch sync for field apps (all-or-nothing; replay-safe)."""
 
+    input_serializers = {"create": SyncInput}
+
     @extend_schema(request=SyncInput, responses={200: OpenApiTypes.OBJECT})
     @idempotent
     def create(self, request, project=None):
         data = SyncInput(data=request.data)
         data.is_valid(raise_exception=True)
-        answer = sync_batch(self.get_project(), actor_for(request), **data.validated_data)
+        answer = sync_batch(self.get_project(), actor_for(request), **validated_items(data.validated_data))
         return Response(answer)

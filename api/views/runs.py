@@ -45,6 +45,7 @@ class RunViewSet(ProjectScopedViewSet):
     read_role = Role.VIEWER
     write_role = Role.ANALYST
     action_roles = {"cancel": Role.ANALYST, "continue_": Role.ANALYST}
+    input_serializers = {"create": RunInput, "continue_": ContinueInput}
 
     def _sweep(self) -> None:
         sweep_if_in_process(self.get_project())

@@ -78,13 +78,20 @@ def test_a_batch_with_one_bad_item_lists_it_with_index_uid_and_reason(api, proje
 
 
 def test_a_batch_lists_every_bad_item(api, project, batch):
-    batch["contexts"][1]["kind"] = "pit"
+    batch["contexts"][1]["label"] = "1009"
     batch["relationships"][0]["object"] = "9999"
     error = assert_error_body(_sync(api, batch), 409, "batch-rejected")
     assert [(i["collection"], i["index"], i["field"], i["code"]) for i in error["items"]] == [
-        ("contexts", 1, "kind", "invalid-choice"),
         ("relationships", 0, "object", "unknown-context"),
         ("relationships", 1, "object", "unknown-context"),
+    ]
+
+
+def test_a_batch_item_of_an_unknown_kind_is_refused_like_a_single_post(api, project, batch):
+    batch["contexts"][1]["kind"] = "pit"
+    error = assert_error_body(_sync(api, batch), 400, "batch-invalid")
+    assert [(i["collection"], i["index"], i["field"], i["code"]) for i in error["items"]] == [
+        ("contexts", 1, "kind", "invalid-choice"),
     ]
 
 
