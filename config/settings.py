@@ -38,17 +38,20 @@ INSTALLED_APPS = [
     "rest_framework",
     "django_filters",
     "drf_spectacular",
+    "drf_spectacular_sidecar",
     "projects",
     "chronology",
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
     "api",
+    "web",
 ]
 
 MIDDLEWARE = [
     "api.middleware.RequestIdMiddleware",
     "django.middleware.security.SecurityMiddleware",
+    "whitenoise.middleware.WhiteNoiseMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -71,6 +74,7 @@ TEMPLATES = [
                 "django.template.context_processors.request",
                 "django.contrib.auth.context_processors.auth",
                 "django.contrib.messages.context_processors.messages",
+                "web.context.navigation",
             ],
         },
     },
@@ -111,6 +115,15 @@ USE_TZ = True
 
 STATIC_URL = "static/"
 STATIC_ROOT = DATA_DIR / "static"
+# The service serves its own assets (whitenoise), straight from the apps'
+# static folders, so nothing is fetched from outside and no collectstatic
+# step is needed to start it.
+WHITENOISE_USE_FINDERS = True
+WHITENOISE_AUTOREFRESH = DEBUG
+
+LOGIN_URL = "web:login"
+LOGIN_REDIRECT_URL = "web:home"
+LOGOUT_REDIRECT_URL = "web:login"
 MEDIA_ROOT = Path(env_str("TELLSTACK_MEDIA_DIR", str(DATA_DIR / "media")))
 MEDIA_URL = "media/"
 
@@ -147,6 +160,9 @@ SPECTACULAR_SETTINGS = {
     "VERSION": "1.0.0",
     "SERVE_INCLUDE_SCHEMA": False,
     "COMPONENT_SPLIT_REQUEST": True,
+    # The docs pages load their viewers from the service itself, never a CDN.
+    "SWAGGER_UI_DIST": "SIDECAR",
+    "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
 }
 
 #: Calendar grid step (years) for calibration and models.

@@ -6,7 +6,8 @@ from django.urls import include, path
 urlpatterns = [
     path("admin/", admin.site.urls),
     path("api/", include("api.urls")),
+    path("", include("web.urls")),
 ]
 
-handler404 = "api.errors.not_found_view"
+handler404 = "web.errors.not_found"
 handler500 = "api.errors.server_error_view"
