@@ -1,4 +1,10 @@
-"""Give every request a UUID, return it as ``X-Request-ID`` and expose it to the write path."""
+"""Give every request the server's own UUID, return it as ``X-Request-ID``.
+
+A client may send its own ``X-Request-ID`` for correlation; it is kept apart
+(``request.client_request_id``, stored as the entry's ``client_request_id``)
+and never taken as the server's id, so a client cannot choose what the
+change log records as the request.
+"""
 
 from __future__ import annotations
 
@@ -20,7 +26,8 @@ class RequestIdMiddleware:
 
     def __call__(self, request):
         incoming = request.headers.get("X-Request-ID", "")
-        request_id = incoming if _VALID.match(incoming or "") else str(uuid.uuid4())
+        request.client_request_id = incoming if _VALID.match(incoming or "") else ""
+        request_id = str(uuid.uuid4())
         token = _request_id.set(request_id)
         request.request_id = request_id
         try:

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from chronology.engine.checks import check_order
 from chronology.engine.diagram import DiagramEdge, DiagramNode, layout_diagram, render_svg, split_for_drawing
 from chronology.engine.exports import to_csv, to_dot, to_graphml, to_node_link
-from chronology.engine.reduction import reduce_order
+from chronology.engine.reduction import implying_path, reduce_order
 from chronology.engine.temporal_graph import OrderPolicy, TemporalGraph, compile_order
 from projects.models import Project
 from projects.record import reads
@@ -55,22 +55,59 @@ def version_order(version) -> tuple[RecordOrder, list[str], dict[int, str]]:
 
 
 def full_check(project: Project, revision: int | None = None) -> dict:
-    """Check + reduction of the record at ``revision`` as plain data."""
+    """Check + reduction of the record at ``revision`` as plain data.
+
+    Every redundant relationship is listed with its witness (the first context
+    after its earlier end on an implying path), so the report stays linear in
+    the size of the record; the full path of one relationship is served by
+    :func:`implied_by`.
+    """
     order = record_order(project, revision)
-    report = check_order(order.graph).as_dict()
-    redundant = []
+    graph = order.graph
+    report = check_order(graph).as_dict()
     if report["acyclic"]:
-        reduction = reduce_order(order.graph, explain=True)
+        reduction = reduce_order(graph, explain=True)
+        redundant = []
         for item in reduction.redundant:
-            redundant.append({
-                **item.as_dict(),
-                "implied_by": " → ".join(s.text() for s in item.path) or None,
-            })
+            entry = item.as_dict(graph)
+            entry["implied_by"] = f"a path of direct relationships through {entry['via_label']}"
+            if item.recorded:
+                entry["path_url"] = _implied_by_url(project, item.id, order.revision)
+            redundant.append(entry)
         report["direct_edge_count"] = len(reduction.direct_edges)
         report["redundant_relationships"] = redundant
         report["redundant_count"] = len(redundant)
     report.update(project=project.code, revision=order.revision, method=_method_note())
     return report
+
+
+def _implied_by_url(project: Project, relationship_id: int, revision: int) -> str:
+    return f"/api/v1/projects/{project.code}/relationships/{relationship_id}/implied-by/?at={revision}"
+
+
+def implied_by(project: Project, relationship_id: int, revision: int | None = None) -> dict:
+    """Whether one relationship is redundant at ``revision``, and the full path that implies it.
+
+    Raises ``RecordNotFound`` when the relationship is not in the record at
+    that revision, ``CycleError`` when the record is not acyclic.
+    """
+    from projects.record.errors import RecordNotFound
+
+    order = record_order(project, revision)
+    graph = order.graph
+    rel = graph.relationships.get(relationship_id)
+    if rel is None:
+        raise RecordNotFound(f"relationship {relationship_id} is not in the record at revision {order.revision}",
+                             field="relationship", code="not-found")
+    reduction = reduce_order(graph, explain=True)
+    item = next((r for r in reduction.redundant if r.recorded and r.id == relationship_id), None)
+    body = {"project": project.code, "revision": order.revision, "relationship": relationship_id,
+            "redundant": item is not None, "path": [], "implied_by": None, "note": CAUTION}
+    if item is not None:
+        steps = implying_path(graph, reduction, item)
+        body.update(item.as_dict(graph), id=relationship_id, path=[s.as_dict() for s in steps],
+                    implied_by=" → ".join(s.text() for s in steps))
+    return body
 
 
 def _method_note() -> dict:

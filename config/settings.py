@@ -9,6 +9,7 @@ Every setting is read from the environment with a working default:
   ``SECRET_KEY`` and ``ALLOWED_HOSTS`` must be given.
 """
 
+import os
 from pathlib import Path
 
 import dj_database_url
@@ -44,6 +45,8 @@ INSTALLED_APPS = [
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
+    "demo",
+    "exchange",
     "api",
     "web",
 ]
@@ -181,11 +184,36 @@ CELERY_TASK_SERIALIZER = "json"
 CELERY_RESULT_BACKEND = None
 CELERY_TASK_IGNORE_RESULT = True
 CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
-# With late acks a task of a worker that died is redelivered after this many
-# seconds (Redis transport), so a killed chain is picked up by another worker.
-CELERY_BROKER_TRANSPORT_OPTIONS = {"visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", 3600)}
-#: A run whose chains have reported no progress for this long is considered stale.
-TELLSTACK_RUN_STALE_SECONDS = env_int("TELLSTACK_RUN_STALE_SECONDS", 60)
+# Model runs (chronology.runs): every chain holds a lease renewed by its
+# heartbeats; the sweeper (Celery beat, every TELLSTACK_RUN_SWEEP_SECONDS)
+# requeues a chain whose lease ran out and fails the run after
+# TELLSTACK_RUN_MAX_ATTEMPTS attempts.  Without a broker there is no beat: the
+# sweep runs when runs are read or listed and when the run command starts.
+TELLSTACK_RUN_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_LEASE_SECONDS", env_str("TELLSTACK_RUN_STALE_SECONDS", "60")))
+TELLSTACK_RUN_HEARTBEAT_SECONDS = float(env_str("TELLSTACK_RUN_HEARTBEAT_SECONDS", "5"))
+TELLSTACK_RUN_COMBINE_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_COMBINE_LEASE_SECONDS", "600"))
+TELLSTACK_RUN_MAX_ATTEMPTS = env_int("TELLSTACK_RUN_MAX_ATTEMPTS", 3)
+TELLSTACK_RUN_SWEEP_SECONDS = float(env_str("TELLSTACK_RUN_SWEEP_SECONDS", "30"))
+#: A chain still queued this long after its message was sent is sent again
+#: (a message held by a worker that died comes back only after the visibility timeout).
+TELLSTACK_RUN_RESEND_QUEUED_SECONDS = float(env_str("TELLSTACK_RUN_RESEND_QUEUED_SECONDS", "900"))
+#: Longest wall time a run may take to converge, unless its settings ask for less.
+TELLSTACK_RUN_MAX_BUDGET_SECONDS = env_int("TELLSTACK_RUN_MAX_BUDGET_SECONDS", 6 * 3600)
+# With late acks a message whose worker died comes back only after the
+# visibility timeout (Redis transport).  It must be longer than the longest
+# chain segment, which the run budget bounds, or a chain still being sampled is
+# handed out twice (harmless: the lease turns the copy away, but it costs a
+# slot).  Dead workers are found by the sweeper long before this.
+CELERY_BROKER_TRANSPORT_OPTIONS = {
+    "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", TELLSTACK_RUN_MAX_BUDGET_SECONDS + 3600),
+}
+CELERY_BEAT_SCHEDULE = {
+    "sweep-model-runs": {"task": "runs.sweep", "schedule": TELLSTACK_RUN_SWEEP_SECONDS},
+}
+#: Compiled sampler kernels are cached here, so a new worker loads them instead of compiling.
+TELLSTACK_NUMBA_CACHE_DIR = env_str("NUMBA_CACHE_DIR", str(DATA_DIR / "numba-cache"))
+# numba reads this when the sampler module is imported, which is always after the settings.
+os.environ.setdefault("NUMBA_CACHE_DIR", TELLSTACK_NUMBA_CACHE_DIR)
 
 LOGGING = {
     "version": 1,

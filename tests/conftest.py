@@ -42,6 +42,42 @@ def _fast_password_hashing(settings):
     settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
 
 
+HISTORY_TABLES = ("projects_changelogentry", "projects_revision", "projects_recordstate")
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _flush_past_history_triggers():
+    """Let the database flush after transactional tests truncate the history tables.
+
+    PostgreSQL refuses ``TRUNCATE`` on them (migration 0004); Django empties
+    the database between transactional tests with exactly that, so the
+    triggers are switched off for the flush only.
+    """
+    from django.db import connection
+    from django.test import TransactionTestCase
+
+    original = TransactionTestCase._fixture_teardown
+
+    def teardown(self):
+        if connection.vendor != "postgresql":
+            return original(self)
+        _history_triggers(connection, "DISABLE")
+        try:
+            original(self)
+        finally:
+            _history_triggers(connection, "ENABLE")
+
+    TransactionTestCase._fixture_teardown = teardown
+    yield
+    TransactionTestCase._fixture_teardown = original
+
+
+def _history_triggers(connection, state: str) -> None:
+    with connection.cursor() as cursor:
+        for table in HISTORY_TABLES:
+            cursor.execute(f"ALTER TABLE {table} {state} TRIGGER USER")
+
+
 @pytest.fixture(autouse=True)
 def _fresh_order_cache():
     order_cache.forget()
@@ -120,3 +156,32 @@ def client_for(users):
 def api(client_for):
     """A recorder's token client."""
     return client_for(Role.RECORDER)
+
+
+@pytest.fixture(autouse=True)
+def _stored_versions_meet_the_published_schema(request):
+    """After every test that used the database, each stored version's content meets the schema.
+
+    Checked with the ``jsonschema`` library's own Draft 2020-12 validator, so a
+    document the service stored can be read by anyone holding the schema file
+    (documents stored under earlier names are read through the alias table first).
+    """
+    uses_db = request.node.get_closest_marker("django_db") or {"db", "transactional_db"} & set(request.fixturenames)
+    if not uses_db:
+        yield
+        return
+    request.getfixturevalue("transactional_db" if "transactional_db" in request.fixturenames else "db")
+    yield
+    from django.db import connection
+    from jsonschema import Draft202012Validator
+
+    from chronology.engine.legacy_names import read_content
+    from chronology.interpretations.content_schema import schema
+    from chronology.interpretations.models import Version
+
+    if connection.needs_rollback:
+        return  # the test broke its own transaction on purpose; nothing can be read in it
+    validator = Draft202012Validator(schema())
+    for number, content in Version.objects.values_list("number", "content"):
+        problems = [f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in validator.iter_errors(read_content(content))]
+        assert not problems, f"version {number} breaks the published schema: {problems}"

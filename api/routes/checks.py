@@ -9,4 +9,5 @@ urlpatterns = [
     re_path(r"^checks/(?P<revision>latest|\d+)/$", checks.CheckDetailView.as_view(), name="check-detail"),
     path("order/diagram.svg", checks.DiagramView.as_view(), name="order-diagram"),
     path("order/export.<str:fmt>", checks.ExportView.as_view(), name="order-export"),
+    path("relationships/<int:relationship>/implied-by/", checks.ImpliedByView.as_view(), name="relationship-implied-by"),
 ]

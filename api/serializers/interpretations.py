@@ -2,15 +2,22 @@
 
 from __future__ import annotations
 
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
+from chronology.interpretations.content_schema import openapi_view
 from chronology.interpretations.models import Status
+
+
+@extend_schema_field(openapi_view())
+class ContentField(serializers.JSONField):
+    """An interpretation content document (its shape: ``GET /api/v1/schemas/interpretation/``)."""
 
 
 class InterpretationInput(serializers.Serializer):
     name = serializers.CharField(max_length=120)
     description = serializers.CharField(required=False, allow_blank=True, default="")
-    content = serializers.JSONField(required=False, default=None,
+    content = ContentField(required=False, default=None,
                                     help_text="The first draft's document; contexts may be given by label.")
     record_revision = serializers.IntegerField(required=False, allow_null=True, default=None,
                                                help_text="Defaults to the current record revision.")
@@ -50,7 +57,7 @@ class VersionOut(serializers.Serializer):
     status_changed_at = serializers.DateTimeField(allow_null=True)
     status_changed_by = serializers.CharField(source="status_changed_by.username", allow_null=True, default=None)
     status_reason = serializers.CharField()
-    content = serializers.JSONField()
+    content = ContentField()
     content_hash = serializers.CharField(help_text="SHA-256 of the canonical content and revision; set on commit.")
     committed_at = serializers.DateTimeField(allow_null=True)
     is_valid = serializers.BooleanField()
@@ -64,7 +71,7 @@ class VersionOut(serializers.Serializer):
 
 
 class VersionEdit(serializers.Serializer):
-    content = serializers.JSONField(required=False, help_text="The whole document; contexts may be given by label.")
+    content = ContentField(required=False, help_text="The whole document; contexts may be given by label.")
     message = serializers.CharField(required=False, allow_blank=True)
     record_revision = serializers.IntegerField(required=False, help_text="Rebuild the draft on another revision.")
 
@@ -79,7 +86,7 @@ class ReasonInput(serializers.Serializer):
 
 class DraftInput(serializers.Serializer):
     message = serializers.CharField(required=False, allow_blank=True, default="")
-    content = serializers.JSONField(required=False, default=None)
+    content = ContentField(required=False, default=None)
     record_revision = serializers.IntegerField(required=False, allow_null=True, default=None)
 
 

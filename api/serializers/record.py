@@ -95,6 +95,7 @@ class ChangeOut(serializers.Serializer):
     user = serializers.CharField(source="user_name")
     device = serializers.CharField()
     request_id = serializers.CharField()
+    client_request_id = serializers.CharField()
     action = serializers.CharField()
     object_kind = serializers.CharField()
     object_id = serializers.IntegerField(allow_null=True)

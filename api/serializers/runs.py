@@ -7,6 +7,7 @@ from rest_framework import serializers
 
 from chronology.engine.posterior import CAUTION
 from chronology.runs.models import Run
+from chronology.runs.outcomes import USER_ERROR_KEYS
 from chronology.runs.results import NOT_CONVERGED
 from chronology.runs.service import DEFAULTS, LIMITS
 
@@ -24,13 +25,33 @@ class RunInput(serializers.Serializer):
                                     max_value=LIMITS["thin"][1])
     seed = serializers.IntegerField(required=False, allow_null=True, default=None, min_value=0,
                                     help_text="Seed entropy; the same model and seed give identical results.")
+    converge = serializers.BooleanField(required=False, default=True,
+                                        help_text="Extend the run (more iterations, then more chains) until every "
+                                                  "reported quantity has R-hat <= 1.01 and bulk and tail ESS >= 400.")
+    budget_seconds = serializers.IntegerField(required=False, default=DEFAULTS["budget_seconds"],
+                                              min_value=LIMITS["budget_seconds"][0],
+                                              max_value=LIMITS["budget_seconds"][1],
+                                              help_text="Wall time the run may take to converge.")
+    max_iterations = serializers.IntegerField(required=False, default=DEFAULTS["max_iterations"],
+                                              min_value=LIMITS["max_iterations"][0],
+                                              max_value=LIMITS["max_iterations"][1],
+                                              help_text="Most kept sweeps per chain the run may grow to.")
 
 
 class ContinueInput(serializers.Serializer):
     iterations = serializers.IntegerField(required=False, allow_null=True, default=None,
                                           min_value=LIMITS["iterations"][0], max_value=LIMITS["iterations"][1],
-                                          help_text="More kept sweeps per chain (default: as many as the run had).")
+                                          help_text="More kept sweeps per chain (default: as many as the run had). "
+                                                    "Leave out to resume a failed or cancelled run as it was.")
     seed = serializers.IntegerField(required=False, allow_null=True, default=None, min_value=0)
+
+
+def _fraction(run: Run, c) -> float:
+    """Share of the chain's kept sweeps stored or being sampled (a warm-up counts as nothing)."""
+    if not run.iterations or c.state == "done":
+        return 1.0 if c.state == "done" else 0.0
+    doing = max(c.sweeps_done - run.warmup, 0) if c.state == "running" else 0
+    return round(min((c.iterations_done + doing) / run.iterations, 1.0), 4)
 
 
 def _url(request, run: Run, name: str = "run-detail", **extra) -> str:
@@ -44,11 +65,12 @@ def run_data(run: Run, request=None, *, chains=None) -> dict:
     total = run.total_sweeps
     progress = [
         {"chain": c.index, "state": c.state, "sweeps_done": c.sweeps_done, "sweeps_total": total,
-         "fraction": round(c.sweeps_done / total, 4) if total else 1.0, "attempts": c.attempts,
-         "seconds": c.seconds}
+         "iterations_done": c.iterations_done, "fraction": _fraction(run, c), "attempts": c.attempts,
+         "seconds": c.seconds, "compile_seconds": c.compile_seconds,
+         "lease_expires_at": c.lease_expires_at if c.state == "running" else None}
         for c in rows
     ]
-    overall = sum(p["sweeps_done"] for p in progress) / (total * len(progress)) if progress and total else 0.0
+    overall = sum(p["fraction"] for p in progress) / len(progress) if progress else 0.0
     summary = run.summary or {}
     done = run.state == "done"
     data = {
@@ -64,7 +86,10 @@ def run_data(run: Run, request=None, *, chains=None) -> dict:
         "combining": run.combining,
         "progress": {"fraction": round(1.0 if done else overall, 4), "chains": progress},
         "settings": {"chains": run.chains, "iterations": run.iterations, "warmup": run.warmup, "thin": run.thin,
-                     "seed_entropy": run.seed_entropy, "rng": run.rng},
+                     "seed_entropy": run.seed_entropy, "rng": run.rng, "converge": run.converge,
+                     "budget_seconds": run.budget_seconds, "max_iterations": run.max_iterations},
+        "extensions": run.rounds,
+        "verdict": run.verdict,
         "model_hash": run.model_hash,
         "prior": run.prior,
         "grid": run.grid,
@@ -78,7 +103,7 @@ def run_data(run: Run, request=None, *, chains=None) -> dict:
         "started_at": run.started_at,
         "finished_at": run.finished_at,
         "timings": run.timings,
-        "error": run.error,
+        "error": {k: v for k, v in run.error.items() if k in USER_ERROR_KEYS} if run.error else None,
         "converged": run.converged,
         "convergence_warning": NOT_CONVERGED if run.converged is False else None,
         "caution": CAUTION,
@@ -95,6 +120,8 @@ def run_data(run: Run, request=None, *, chains=None) -> dict:
             "plot_png": _url(request, run, "run-plot", fmt="png"),
             "continue": _url(request, run, "run-continue"),
         })
+    elif run.state in ("failed", "cancelled"):
+        data["links"]["continue"] = _url(request, run, "run-continue")
     elif not run.is_terminal:
         data["links"]["cancel"] = _url(request, run, "run-cancel")
     return data

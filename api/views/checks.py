@@ -14,7 +14,7 @@ from api.views.base import ProjectScopedMixin, truthy
 from chronology import jobs, order_service
 from chronology.models import CheckReport
 from chronology.tasks import run_order_check
-from projects.record import reads
+from projects.record import history, reads
 
 AT = OpenApiParameter("at", OpenApiTypes.INT, description="Record revision (default: current).")
 REDUCED = OpenApiParameter("reduced", OpenApiTypes.BOOL, description="Only the direct relationships.")
@@ -119,10 +119,27 @@ class ExportView(ProjectScopedMixin, APIView):
         reduced = truthy(request.query_params.get("reduced", "false"))
         order = order_service.record_order(found, revision)
         body = order_service.export(order, fmt, reduced=reduced)
+        # Whoever keeps this copy can later tell a rewrite of the history (``verify_record``).
+        head = {"X-Record-Head-Digest": history.head_digest(found)}
         if fmt == "json":
-            return Response(body)
+            return Response(body, headers=head)
         content_type, ext = order_service.EXPORTS[fmt]
-        response = HttpResponse(body, content_type=content_type)
+        response = HttpResponse(body, content_type=content_type, headers=head)
         suffix = "-reduced" if reduced else ""
         response["Content-Disposition"] = f'attachment; filename="{found.code}-r{revision}{suffix}.{ext}"'
         return response
+
+
+class ImpliedByView(ProjectScopedMixin, APIView):
+    """Whether a relationship is redundant, with the full path of direct relationships implying it.
+
+    The check report gives each redundant relationship a compact witness; this
+    spells out the whole path for one of them, later end first.
+    """
+
+    @extend_schema(parameters=[AT], responses=OpenApiTypes.OBJECT)
+    def get(self, request, project, relationship):
+        found = self.get_project()
+        revision = reads.resolve_revision(found, request.query_params.get("at"))
+        return Response(order_service.implied_by(found, relationship, revision))
+

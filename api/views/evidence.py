@@ -42,7 +42,7 @@ from chronology.evidence.models import Curve
 from chronology.evidence.representation import DATA_OF
 from projects.models import Organisation, RecordState, Role
 from projects.record import reads
-from projects.record.changes import Actor
+from api.actor import actor_for
 from projects.record.errors import RecordInvalid, RecordNotFound
 
 AT = OpenApiParameter("at", OpenApiTypes.INT, description="Read the evidence as it was at this revision.")
@@ -160,7 +160,7 @@ class _EvidenceViewSet(ProjectScopedViewSet):
         data.is_valid(raise_exception=True)
         fields = dict(data.validated_data)
         uid = fields.pop("uid", None)
-        result = type(self).add(self.get_project(), Actor.from_request(request), uid=uid, **fields)
+        result = type(self).add(self.get_project(), actor_for(request), uid=uid, **fields)
         code = status.HTTP_201_CREATED if result.created else status.HTTP_200_OK
         return self._written(result.object, result.revision, code)
 
@@ -170,7 +170,7 @@ class _EvidenceViewSet(ProjectScopedViewSet):
     def retract(self, request, project=None, pk=None):
         data = RetractInput(data=request.data)
         data.is_valid(raise_exception=True)
-        result = writes.retract_evidence(self.get_project(), Actor.from_request(request), self.kind, int(pk),
+        result = writes.retract_evidence(self.get_project(), actor_for(request), self.kind, int(pk),
                                          reason=data.validated_data["reason"])
         obj = result.object
         return self._written(obj, result.revision, extra={"retracted_revision": obj.retracted_revision,

@@ -35,6 +35,7 @@ from chronology.interpretations.content import ContentInvalid
 from chronology.interpretations.models import Interpretation, Reading, Status, Version
 from chronology.models import Job
 from projects.models import Role
+from api.actor import actor_for
 from projects.record.changes import Actor
 
 IF_MATCH = OpenApiParameter("If-Match", OpenApiTypes.STR, OpenApiParameter.HEADER, required=True,
@@ -53,7 +54,7 @@ class _InterpretationScoped(ProjectScopedViewSet):
         return super().handle_exception(exc)
 
     def actor(self) -> Actor:
-        return Actor.from_request(self.request)
+        return actor_for(self.request)
 
     def current_version_id(self):
         return Reading.objects.filter(project=self.get_project()).values_list("version_id", flat=True).first()

@@ -24,7 +24,7 @@ from api.serializers.record import (
 from api.views.base import ProjectScopedViewSet
 from projects.models import ChangeLogEntry, RecordState, Revision
 from projects.record import reads, writes
-from projects.record.changes import Actor
+from api.actor import actor_for
 from projects.record.errors import RecordNotFound
 from projects.record.representation import context_data, relationship_data
 from projects.record.sync import sync_batch
@@ -79,7 +79,7 @@ class ContextViewSet(_RecordStateViewSet):
         data.is_valid(raise_exception=True)
         fields = dict(data.validated_data)
         uid = fields.pop("uid", None)
-        result = writes.add_context(self.get_project(), Actor.from_request(request), uid=uid, **fields)
+        result = writes.add_context(self.get_project(), actor_for(request), uid=uid, **fields)
         code = status.HTTP_201_CREATED if result.created else status.HTTP_200_OK
         return Response(context_data(result.object), status=code, headers={"X-Record-Revision": str(result.revision)})
 
@@ -89,7 +89,7 @@ class ContextViewSet(_RecordStateViewSet):
         data.is_valid(raise_exception=True)
         fields = dict(data.validated_data)
         message = fields.pop("message", "")
-        result = writes.edit_context(self.get_project(), Actor.from_request(request), int(pk), fields, message=message)
+        result = writes.edit_context(self.get_project(), actor_for(request), int(pk), fields, message=message)
         return Response(context_data(result.object), headers={"X-Record-Revision": str(result.revision)})
 
     @extend_schema(request=RetractInput, responses=ContextOut)
@@ -99,7 +99,7 @@ class ContextViewSet(_RecordStateViewSet):
         data = RetractInput(data=request.data)
         data.is_valid(raise_exception=True)
         result = writes.retract_context(
-            self.get_project(), Actor.from_request(request), int(pk), reason=data.validated_data["reason"]
+            self.get_project(), actor_for(request), int(pk), reason=data.validated_data["reason"]
         )
         body = context_data(result.object)
         body.update(retracted_revision=result.object.retracted_revision, retraction_reason=result.object.retraction_reason)
@@ -132,7 +132,7 @@ class RelationshipViewSet(_RecordStateViewSet):
     def create(self, request, project=None):
         data = RelationshipInput(data=request.data)
         data.is_valid(raise_exception=True)
-        result = writes.add_relationship(self.get_project(), Actor.from_request(request), **data.validated_data)
+        result = writes.add_relationship(self.get_project(), actor_for(request), **data.validated_data)
         code = status.HTTP_201_CREATED if result.created else status.HTTP_200_OK
         return Response(self._out(result.object), status=code, headers={"X-Record-Revision": str(result.revision)})
 
@@ -143,7 +143,7 @@ class RelationshipViewSet(_RecordStateViewSet):
         data = RetractInput(data=request.data)
         data.is_valid(raise_exception=True)
         result = writes.retract_relationship(
-            self.get_project(), Actor.from_request(request), int(pk), reason=data.validated_data["reason"]
+            self.get_project(), actor_for(request), int(pk), reason=data.validated_data["reason"]
         )
         body = self._out(result.object)
         body.update(retracted_revision=result.object.retracted_revision, retraction_reason=result.object.retraction_reason)
@@ -179,5 +179,5 @@ class SyncViewSet(ProjectScopedViewSet):
     def create(self, request, project=None):
         data = SyncInput(data=request.data)
         data.is_valid(raise_exception=True)
-        answer = sync_batch(self.get_project(), Actor.from_request(request), **data.validated_data)
+        answer = sync_batch(self.get_project(), actor_for(request), **data.validated_data)
         return Response(answer)

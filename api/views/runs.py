@@ -6,6 +6,11 @@ evidence) and no run is made; otherwise the answer is 202 with the run's URL
 to poll.  Results, the compiled model, the samples (NetCDF) and the plots are
 served from the run's folder; every JSON answer carries the caution that
 the dates depend on the model's assumptions.
+
+Without a broker (the embedded set-up) there is no Celery beat, so reading or
+listing runs sweeps the project's runs first (:mod:`chronology.runs.sweeper`):
+a run whose process stopped ends ``failed`` (``interrupted``) instead of
+showing "running" for ever.
 """
 
 from __future__ import annotations
@@ -25,6 +30,7 @@ from chronology.runs.compile import ModelRefused
 from chronology.runs.models import Run, RunState
 from chronology.runs.service import cancel_run, continue_run, submit_run
 from chronology.runs.sources import find_version
+from chronology.runs.sweeper import sweep
 from projects.models import Role
 
 
@@ -39,6 +45,12 @@ class RunViewSet(ProjectScopedViewSet):
     read_role = Role.VIEWER
     write_role = Role.ANALYST
     action_roles = {"cancel": Role.ANALYST, "continue_": Role.ANALYST}
+
+    def _sweep(self) -> None:
+        from config.celery import app
+
+        if app.conf.task_always_eager:
+            sweep(project=self.get_project())
 
     def get_queryset(self):
         return Run.objects.filter(project=self.get_project()).select_related("project").prefetch_related("chain_rows")
@@ -65,6 +77,7 @@ class RunViewSet(ProjectScopedViewSet):
 
     @extend_schema(responses={200: OpenApiTypes.OBJECT})
     def list(self, request, project=None):
+        self._sweep()
         qs = self.get_queryset()
         state = request.query_params.get("state")
         if state:
@@ -77,6 +90,7 @@ class RunViewSet(ProjectScopedViewSet):
 
     @extend_schema(responses={200: OpenApiTypes.OBJECT})
     def retrieve(self, request, project=None, pk=None):
+        self._sweep()
         return Response(run_data(self._run(pk), request))
 
     @extend_schema(request=RunInput, responses={202: OpenApiTypes.OBJECT})

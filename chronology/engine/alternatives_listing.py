@@ -10,13 +10,10 @@ page deep in a listing of millions costs no more than the first page.
 from __future__ import annotations
 
 from collections.abc import Iterator
-from typing import TYPE_CHECKING
 
 from .alternatives_count import Counter, unrank
+from .alternatives_types import AlternativesResult
 from .errors import AlternativesInputError
-
-if TYPE_CHECKING:
-    from .alternatives import AlternativesResult
 
 __all__ = ["iter_choices", "choice_at"]
 

@@ -109,9 +109,12 @@ def format_year(t: float, scale: str = "bc-ad") -> str:
 
 def format_range(start: float, end: float, scale: str = "bc-ad") -> str:
     """A calendar range as text, earliest first: ``"352–297 cal BC"``,
-    ``"cal AD 41–120"`` or ``"40 cal BC – cal AD 15"``."""
+    ``"cal AD 41–120"`` or ``"40 cal BC – cal AD 15"``; a range within one
+    year is that year, written once (``"cal AD 118"``)."""
     if end < start:
         start, end = end, start
+    if _whole_year(start) == _whole_year(end):
+        return format_year(start, scale)
     if scale == "bp":
         return f"{_whole_year(to_cal_bp(start))}–{_whole_year(to_cal_bp(end))} cal BP"
     (y0, e0), (y1, e1) = to_bc_ad(start), to_bc_ad(end)

@@ -38,6 +38,7 @@ __all__ = [
 
 R_HAT_MAX = 1.01
 ESS_BULK_MIN = 400.0
+ESS_TAIL_MIN = 400.0
 DIAGNOSTICS_METHOD = (
     "rank-normalised split R-hat, bulk and tail ESS (Vehtari et al. 2021), computed with ArviZ "
     f"{az.__version__}"
@@ -61,7 +62,7 @@ class QuantityDiagnostics:
     def ok(self) -> bool:
         if np.isnan(self.r_hat):
             return True
-        return self.r_hat <= R_HAT_MAX and self.ess_bulk >= ESS_BULK_MIN
+        return self.r_hat <= R_HAT_MAX and self.ess_bulk >= ESS_BULK_MIN and self.ess_tail >= ESS_TAIL_MIN
 
 
 @dataclass(frozen=True)
@@ -73,7 +74,8 @@ class ConvergenceReport:
     max_r_hat: float
     min_ess_bulk: float
     failing: tuple[str, ...] = field(default=())
-    thresholds: dict = field(default_factory=lambda: {"r_hat_max": R_HAT_MAX, "ess_bulk_min": ESS_BULK_MIN})
+    thresholds: dict = field(default_factory=lambda: {"r_hat_max": R_HAT_MAX, "ess_bulk_min": ESS_BULK_MIN,
+                                                             "ess_tail_min": ESS_TAIL_MIN})
     method: str = DIAGNOSTICS_METHOD
 
     def get(self, name: str) -> QuantityDiagnostics:

@@ -14,12 +14,17 @@ content.  A phase whose key is unchanged but whose name differs is *renamed*;
 phases present in both whose relative order differs are *reordered* (the two
 key sequences are reported).  Decisions absent from a document count as the
 value ``"default"`` unless the caller fills in the effective defaults first.
+Documents stored under the earlier question names are read in the current
+ones first (:mod:`chronology.engine.legacy_names`), so a renamed question is
+not reported as a change.
 """
 
 from __future__ import annotations
 
 import json
 from typing import Mapping
+
+from chronology.engine.legacy_names import read_content
 
 __all__ = ["diff_interpretations", "diff_text", "is_empty_diff"]
 
@@ -199,8 +204,8 @@ def diff_interpretations(old: Mapping, new: Mapping, *, old_revision: int | None
     >>> d["phases"]["renamed"], d["contexts"]["unphased"]
     ([{'key': 'p1', 'from': 'Early', 'to': 'Earliest'}], [{'context': 7, 'phase': 'p1'}])
     """
-    old = _require_document(old, "old")
-    new = _require_document(new, "new")
+    old = _require_document(read_content(old), "old")
+    new = _require_document(read_content(new), "new")
     diff = {
         "phases": _diff_phases(old, new),
         "contexts": _diff_contexts(old, new),
@@ -223,12 +228,13 @@ def diff_interpretations(old: Mapping, new: Mapping, *, old_revision: int | None
 
 
 def _ctx(labels: Mapping, cid) -> str:
-    return str(labels.get(cid, labels.get(str(cid), f"#{cid}")))
+    # a reader knows contexts by label; the id is only the fallback when none is given
+    return str(labels.get(cid, labels.get(str(cid), f"(context without a label, id {cid})")))
 
 
 def _rel(relationships: Mapping, rid) -> str:
     text = relationships.get(rid, relationships.get(str(rid)))
-    return f"#{rid} ({text})" if text else f"#{rid}"
+    return str(text) if text else f"(relationship id {rid})"
 
 
 def _phase(names: Mapping, key) -> str:
@@ -248,7 +254,7 @@ def _arrangement(value) -> str:
 def _event(labels: Mapping, names: Mapping, ref: str) -> str:
     parts = str(ref).split(":")
     if parts[0] == "phase" and len(parts) == 3:
-        return f"{parts[2]} of {_phase(names, parts[1])}"
+        return f"the {parts[2]} of {_phase(names, parts[1])}"
     if parts[0] == "context" and len(parts) == 2 and parts[1].isdigit():
         return f"context {_ctx(labels, int(parts[1]))}"
     return str(ref)
@@ -256,12 +262,12 @@ def _event(labels: Mapping, names: Mapping, ref: str) -> str:
 
 def _question(labels: Mapping, names: Mapping, q: Mapping) -> str:
     kind = q.get("kind")
-    if kind == "span":
-        return f"span of {_phase(names, q.get('phase'))}"
-    if kind == "interval":
-        return f"interval from {_event(labels, names, q.get('from'))} to {_event(labels, names, q.get('to'))}"
-    if kind == "order":
-        return f"probability that {_event(labels, names, q.get('earlier'))} precedes {_event(labels, names, q.get('later'))}"
+    if kind == "duration":
+        return f"how long {_phase(names, q.get('phase'))} lasted"
+    if kind == "gap":
+        return f"the gap from {_event(labels, names, q.get('from'))} to {_event(labels, names, q.get('to'))}"
+    if kind == "precedence":
+        return f"the probability that {_event(labels, names, q.get('earlier'))} precedes {_event(labels, names, q.get('later'))}"
     return _canon(q)
 
 

@@ -28,6 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from chronology.engine.grid import CalendarGrid
+from chronology.engine.legacy_names import question_kind
 
 __all__ = [
     "EVENT_KINDS",
@@ -35,6 +36,7 @@ __all__ = [
     "QUESTION_KINDS",
     "PRIORS",
     "MODEL_SCHEMA_VERSION",
+    "READABLE_SCHEMA_VERSIONS",
     "MODEL_JSON_SCHEMA",
     "Evidence",
     "Event",
@@ -46,10 +48,12 @@ __all__ = [
 
 EVENT_KINDS = ("dated", "undated", "boundary")
 ARRANGEMENTS = ("sequential", "contiguous", "overlapping")
-QUESTION_KINDS = ("span", "interval", "order")
+QUESTION_KINDS = ("duration", "gap", "precedence")
 #: ``span-uniform``: Nicholls & Jones (2001); ``uniform``: the plain order prior.
 PRIORS = ("span-uniform", "uniform")
-MODEL_SCHEMA_VERSION = 1
+MODEL_SCHEMA_VERSION = 2
+#: Versions :meth:`Model.from_dict` reads; version 1 used the earlier question names.
+READABLE_SCHEMA_VERSIONS = (1, 2)
 
 _LOGLIK_ARRAY = {"type": "array", "items": {"type": ["number", "null"]}}
 
@@ -276,7 +280,11 @@ class Constraint:
 
 @dataclass(frozen=True)
 class Phase:
-    """A phase: its start and end boundary events, members, and link to the next phase."""
+    """A phase: its beginning (``start``) and close (``end``) boundary events, members, and link to the next phase.
+
+    The field names ``start``/``end`` are those of the archived model JSON;
+    :attr:`beginning` and :attr:`close` read them in the words of the outputs.
+    """
 
     key: str
     label: str
@@ -285,10 +293,18 @@ class Phase:
     members: tuple[str, ...]
     arrangement_next: str | None = None
 
+    @property
+    def beginning(self) -> str:
+        return self.start
+
+    @property
+    def close(self) -> str:
+        return self.end
+
 
 @dataclass(frozen=True)
 class Question:
-    """A derived quantity: ``span`` of phase ``a``, ``interval`` ``b - a``, or ``order`` P(a before b)."""
+    """A derived quantity: ``duration`` of phase ``a``, ``gap`` ``b - a``, or ``precedence`` P(a before b)."""
 
     key: str
     kind: str
@@ -362,7 +378,7 @@ class Model:
 
     @classmethod
     def from_dict(cls, d: dict) -> "Model":
-        if d.get("schema_version") != MODEL_SCHEMA_VERSION:
+        if d.get("schema_version") not in READABLE_SCHEMA_VERSIONS:
             raise ValueError(f"unsupported model schema version {d.get('schema_version')!r}")
         g = d["grid"]
         return cls(
@@ -375,7 +391,8 @@ class Model:
             ),
             range_lo=float(d["range"]["lo"]),
             range_hi=float(d["range"]["hi"]),
-            questions=tuple(Question(q["key"], q["kind"], q["a"], q["b"]) for q in d["questions"]),
+            # archived version-1 files name their questions in the earlier words
+            questions=tuple(Question(q["key"], question_kind(q["kind"]), q["a"], q["b"]) for q in d["questions"]),
             prior=d["prior"],
             excluded_evidence=tuple(d.get("excluded_evidence", ())),
         )

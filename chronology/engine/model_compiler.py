@@ -18,9 +18,11 @@ a model that cannot be sampled with a :class:`ModelError`:
 ``invalid-input``
     malformed input (unknown phase, bad array length, ...).
 
-Event keys: ``ctx:<id>`` for contexts, ``start:<phase>`` and ``end:<phase>``
-for boundaries, ``transition:<a>:<b>`` for the boundary two contiguous phases
-share, ``sample:<evidence key>`` for residual/intrusive samples.
+Event keys: ``ctx:<id>`` for contexts, ``beginning:<phase>`` and
+``close:<phase>`` for boundaries, ``changeover:<a>:<b>`` for the boundary two
+contiguous phases share, ``sample:<evidence key>`` for residual/intrusive
+samples.  Boundary labels read "Beginning of <phase>", "Close of <phase>" and
+"Changeover <a> to <b>".
 """
 
 from __future__ import annotations
@@ -51,6 +53,9 @@ __all__ = [
     "EvidenceInput",
     "QuestionInput",
     "context_key",
+    "beginning_key",
+    "close_key",
+    "changeover_key",
     "compile_model",
     "feasible_bounds",
     "topological_order",
@@ -85,9 +90,9 @@ class EvidenceInput:
 
 @dataclass(frozen=True)
 class QuestionInput:
-    """``span`` of phase ``a``; ``interval`` from ``a`` to ``b``; ``order`` P(a before b).
+    """``duration`` of phase ``a``; ``gap`` from ``a`` to ``b``; ``precedence`` P(a before b).
 
-    ``a``/``b`` are context ids or event keys (e.g. ``start:P1``).
+    ``a``/``b`` are context ids or event keys (e.g. ``beginning:P1``).
     """
 
     kind: str
@@ -99,6 +104,21 @@ class QuestionInput:
 def context_key(ctx: Hashable) -> str:
     """The event key of context ``ctx``."""
     return f"ctx:{ctx}"
+
+
+def beginning_key(phase: str) -> str:
+    """The event key of the beginning boundary of ``phase``."""
+    return f"beginning:{phase}"
+
+
+def close_key(phase: str) -> str:
+    """The event key of the close boundary of ``phase``."""
+    return f"close:{phase}"
+
+
+def changeover_key(phase: str, next_phase: str) -> str:
+    """The event key of the boundary contiguous phases ``phase`` and ``next_phase`` share."""
+    return f"changeover:{phase}:{next_phase}"
 
 
 def _fail(code: str, message: str, **details):
@@ -155,7 +175,7 @@ def compile_model(
     prior : {"span-uniform", "uniform"}
     boundary_order : sequence of (earlier_key, later_key, strict)
         Extra asserted order between event keys, e.g. for overlapping phases
-        (``("start:P1", "start:P2", False)``).
+        (``("beginning:P1", "beginning:P2", False)``).
     prior_only : bool
         Drop every likelihood (a prior-only run); ``no-evidence`` is not raised.
 
@@ -231,18 +251,19 @@ def compile_model(
     ends: dict = {}
     for j, p in enumerate(phases):
         if p.key not in starts:
-            starts[p.key] = f"start:{p.key}"
-            events.append(Event(starts[p.key], "boundary", f"Start {p.label or p.key}", p.key))
+            starts[p.key] = beginning_key(p.key)
+            events.append(Event(starts[p.key], "boundary", f"Beginning of {p.label or p.key}", p.key))
         nxt = phases[j + 1] if j + 1 < len(phases) else None
         if nxt is not None and p.arrangement_next == "contiguous":
-            shared = f"transition:{p.key}:{nxt.key}"
+            shared = changeover_key(p.key, nxt.key)
             ends[p.key] = starts[nxt.key] = shared
-            events.append(Event(shared, "boundary", f"Transition {p.label or p.key}/{nxt.label or nxt.key}", p.key))
+            events.append(Event(shared, "boundary", f"Changeover {p.label or p.key} to {nxt.label or nxt.key}",
+                                p.key))
         else:
-            ends[p.key] = f"end:{p.key}"
-            events.append(Event(ends[p.key], "boundary", f"End {p.label or p.key}", p.key))
+            ends[p.key] = close_key(p.key)
+            events.append(Event(ends[p.key], "boundary", f"Close of {p.label or p.key}", p.key))
             if nxt is not None and p.arrangement_next == "sequential":
-                constraints.append(Constraint(ends[p.key], f"start:{nxt.key}", False))
+                constraints.append(Constraint(ends[p.key], beginning_key(nxt.key), False))
         constraints.append(Constraint(starts[p.key], ends[p.key], True))
 
     for c in contexts:
@@ -310,10 +331,10 @@ def _resolve(ref, keys: set) -> str:
 def _compile_question(q: QuestionInput, keys: set, phase_keys: set, i: int) -> Question:
     if q.kind not in QUESTION_KINDS:
         _fail("invalid-input", f"unknown question kind {q.kind!r}")
-    if q.kind == "span":
+    if q.kind == "duration":
         if q.a not in phase_keys:
-            _fail("invalid-input", f"span of unknown phase {q.a}", phase=str(q.a))
-        return Question(q.key or f"span:{q.a}", "span", str(q.a), None)
+            _fail("invalid-input", f"duration of unknown phase {q.a}", phase=str(q.a))
+        return Question(q.key or f"duration:{q.a}", "duration", str(q.a), None)
     a, b = _resolve(q.a, keys), _resolve(q.b, keys)
     return Question(q.key or f"{q.kind}:{a}:{b}", q.kind, a, b)
 

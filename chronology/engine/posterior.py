@@ -3,9 +3,10 @@
 Per event: its marginal density on the grid (a histogram of the draws over
 the grid's cells, smoothed by a Gaussian kernel of Silverman's 1986 bandwidth), the 68.3% and 95.4% highest-density ranges (Hyndman 1996)
 and the median, in astronomical years, cal BC/AD and cal BP.  Per question:
-spans of phases, signed intervals between events and order probabilities
-with their Monte Carlo standard errors.  Per determination under the outlier
-model: the posterior outlier probability beside its prior (Christen 1994).
+durations of phases, signed gaps between events and precedence
+probabilities with their Monte Carlo standard errors.  Per determination
+under the outlier model: the chance of being an outlier, estimated, beside
+the chance assumed (Christen 1994).
 
 Every summary carries the methods used, the curve name(s) given by the
 caller, the prior, the run id and :data:`CAUTION`.
@@ -78,7 +79,7 @@ class EventSummary:
 
 @dataclass(frozen=True)
 class QuestionSummary:
-    """A span, interval (years, signed ``b - a``) or order probability ``P(a before b)``."""
+    """A duration, gap (years, signed ``b - a``) or precedence probability ``P(a before b)``."""
 
     key: str
     kind: str
@@ -92,7 +93,7 @@ class QuestionSummary:
 
 @dataclass(frozen=True)
 class OutlierSummary:
-    """Posterior outlier probability of one determination beside its prior."""
+    """The chance that one determination is an outlier: assumed (``prior``) and estimated (``posterior``)."""
 
     evidence_key: str
     event_key: str
@@ -121,16 +122,16 @@ class PosteriorSummary:
 def question_draws(model: Model, dates: np.ndarray) -> np.ndarray:
     """Per-draw values of every question: shape ``dates.shape[:-1] + (n_questions,)``.
 
-    Spans are ``end - start`` of the phase, intervals ``theta_b - theta_a``
-    and order questions the indicator ``theta_a < theta_b``.
+    Durations are close minus beginning of the phase, gaps ``theta_b - theta_a``
+    and precedence questions the indicator ``theta_a < theta_b``.
     """
     index = {k: i for i, k in enumerate(model.event_keys)}
     cols = []
     for q in model.questions:
-        if q.kind == "span":
+        if q.kind == "duration":
             p = model.phase(q.a)
             cols.append(dates[..., index[p.end]] - dates[..., index[p.start]])
-        elif q.kind == "interval":
+        elif q.kind == "gap":
             cols.append(dates[..., index[q.b]] - dates[..., index[q.a]])
         else:
             cols.append((dates[..., index[q.a]] < dates[..., index[q.b]]).astype(float))
@@ -158,6 +159,22 @@ def _smooth(hist: np.ndarray, values: np.ndarray, step: float) -> np.ndarray:
     return out / out.sum()
 
 
+def _within_draws(ranges: list[HPDRange], values: np.ndarray) -> list[HPDRange]:
+    """Clip smoothed-density ranges to the extent of the draws.
+
+    Smoothing spreads mass past a hard bound of the model (a terminus, an
+    outlier-free order constraint); every draw respects those bounds, so no
+    reported range may run past the earliest or latest draw.
+    """
+    lo, hi = float(values.min()), float(values.max())
+    out = []
+    for r in ranges:
+        a, b = max(r.start, lo), min(r.end, hi)
+        if a <= b:
+            out.append(HPDRange(a, b, r.probability))
+    return out or [HPDRange(lo, hi, 1.0)]
+
+
 def _hpd_from_samples(values: np.ndarray, step: float) -> dict:
     lo, hi = float(values.min()), float(values.max())
     if hi - lo < step:
@@ -171,7 +188,7 @@ def _hpd_from_samples(values: np.ndarray, step: float) -> dict:
     if centres.size < 2:
         return {m: [HPDRange(lo, hi, 1.0)] for m in HPD_MASSES}
     dens = _smooth(counts / counts.sum(), values, step)
-    return {m: hpd_regions(centres, dens, m) for m in HPD_MASSES}
+    return {m: _within_draws(hpd_regions(centres, dens, m), values) for m in HPD_MASSES}
 
 
 def summarise(
@@ -233,7 +250,7 @@ def summarise(
             if np.isfinite(ll.max()):
                 lik = np.exp(ll - ll.max())
                 lik /= lik.sum()
-        hpd = {m: hpd_regions(years, density, m) for m in HPD_MASSES}
+        hpd = {m: _within_draws(hpd_regions(years, density, m), v) for m in HPD_MASSES}
         med = float(np.median(v))
         sd = float(v.std(ddof=1)) if n > 1 else 0.0
         events.append(EventSummary(
@@ -252,7 +269,7 @@ def summarise(
     for j, q in enumerate(model.questions):
         v = qd[:, j]
         m = float(v.mean())
-        if q.kind == "order":
+        if q.kind == "precedence":
             questions.append(QuestionSummary(q.key, q.kind, q.a, q.b, m, mcse_probability(m, ess(q.key, n))))
         else:
             sd = float(v.std(ddof=1)) if n > 1 else 0.0

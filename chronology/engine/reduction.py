@@ -1,14 +1,26 @@
-"""Transitive reduction of an acyclic temporal order.
+"""Transitive reduction of an acyclic temporal order, with compact witnesses.
 
 The reduction of a DAG is unique (Aho, Garey & Ullman 1972): it keeps exactly
 the edges not implied by a longer path.  This is what the stratigraphic
 sequence diagram shows; the other recorded relationships are redundant (they
-add no order information) but stay in the record as independent evidence, so
-each one is listed with the path of direct relationships that implies it.
+add no order information) but stay in the record as independent evidence.
 
-Reachability is held as Python-int bitsets indexed by topological position.
-A node's set is freed as soon as its last predecessor has used it, which keeps
-the live sets to the "width" of the sequence rather than to all nodes.
+Each redundant relationship carries a *witness*: the first node after its
+earlier end on a path of direct edges that implies it.  The witness costs
+O(1) space, so the whole report is linear in the size of the record however
+long the implying paths are; :func:`implying_path` spells out the full path of
+one relationship on request (one breadth-first search).
+
+Reachability is held as Python-int bitsets, with three savings that keep the
+live sets small on wide and deep records alike:
+
+* only nodes with two or more predecessors get a bit (the far end of a
+  redundant edge always has another predecessor, the last step of the longer
+  path), numbered in reverse topological order;
+* a node with a single direct successor holds a link ``(its bit, successor's
+  set)`` instead of a copy, so a long sequence costs O(1) per node until a
+  node with several direct successors needs the union;
+* a node's set is dropped as soon as its last predecessor has used it.
 """
 
 from __future__ import annotations
@@ -17,28 +29,39 @@ from collections import deque
 from dataclasses import dataclass
 
 from .checks import topological_order
+from .order_paths import PathStep
 from .temporal_graph import TemporalGraph, chain_steps, gc_paused
 
-__all__ = ["RedundantRelationship", "Reduction", "reduce_order", "reduced_edge_mask"]
+__all__ = ["RedundantRelationship", "Reduction", "reduce_order", "reduced_edge_mask", "implying_path"]
+
+#: Out-degree above which membership tests read a byte snapshot of the union
+#: (O(1) each) instead of shifting the whole integer (O(size) each).
+_SNAPSHOT_FROM = 16
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class RedundantRelationship:
     """A relationship whose order is implied by a path of direct ones.
 
     ``id`` is the relationship id (or an interpretive reference when
-    ``recorded`` is False); ``edge`` the index of the removed edge; ``path`` the
-    direct relationships implying it, later end first.
+    ``recorded`` is False); ``edge`` the index of the removed edge; ``via`` the
+    node index of the witness (the first node after the earlier end on an
+    implying path of direct edges), None when the reduction was computed
+    without explanations.
     """
 
     id: int | str
     edge: int
-    path: tuple
+    via: int | None = None
     recorded: bool = True
 
-    def as_dict(self) -> dict:
-        return {"id": self.id, "edge": self.edge, "recorded": self.recorded,
-                "path": [s.as_dict() for s in self.path]}
+    def as_dict(self, graph: TemporalGraph | None = None) -> dict:
+        out = {"id": self.id, "edge": self.edge, "recorded": self.recorded, "via": None, "via_label": None}
+        if graph is not None and self.via is not None:
+            first = graph.members[self.via][0]
+            out["via"] = graph.contexts[first].id
+            out["via_label"] = graph.label(first)
+        return out
 
 
 @dataclass(frozen=True)
@@ -70,16 +93,49 @@ class Reduction:
                 }
                 for e in self.direct_edges
             ],
-            "redundant": [r.as_dict() for r in self.redundant],
+            "redundant": [r.as_dict(graph) for r in self.redundant],
         }
 
 
-def reduced_edge_mask(graph: TemporalGraph) -> list[bool]:
-    """Per edge, whether it belongs to the transitive reduction.
+def _materialise(reach) -> int:
+    """The bitset of a reach value: an int, or a chain of ``(bit, next)`` links."""
+    if type(reach) is int:
+        return reach
+    bits = []
+    while type(reach) is tuple:
+        b, reach = reach
+        if b >= 0:
+            bits.append(b)
+    if len(bits) < 32:
+        for b in bits:
+            reach |= 1 << b
+        return reach
+    buf = bytearray((max(bits) >> 3) + 1)
+    for b in bits:
+        buf[b >> 3] |= 1 << (b & 7)
+    return reach | int.from_bytes(buf, "little")
 
-    Raises ``CycleError`` if the order is not acyclic.  O(n·m/w) word operations
-    in the worst case, usually far less because sets are freed early.
-    """
+
+class _Bits:
+    """Membership tests on one bitset, O(1) each once a byte snapshot is taken."""
+
+    __slots__ = ("value", "_bytes")
+
+    def __init__(self, value: int):
+        self.value = value
+        self._bytes = None
+
+    def has(self, b: int, snapshot: bool) -> bool:
+        if not snapshot:
+            return (self.value >> b) & 1 == 1
+        if self._bytes is None:
+            self._bytes = self.value.to_bytes((self.value.bit_length() >> 3) + 1, "little")
+        i = b >> 3
+        return i < len(self._bytes) and (self._bytes[i] >> (b & 7)) & 1 == 1
+
+
+def _sweep(graph: TemporalGraph, witnesses: bool) -> tuple[list[bool], dict[int, int]]:
+    """Kept-edge mask and, per removed edge, its witness node (when asked)."""
     order = topological_order(graph)
     n = graph.n_nodes
     pos = [0] * n
@@ -87,86 +143,85 @@ def reduced_edge_mask(graph: TemporalGraph) -> list[bool]:
         pos[v] = i
     el = graph.edge_later
     succ, pred = graph.succ, graph.pred
+    bit = [-1] * n
+    count = 0
+    for v in reversed(order):
+        if len(pred[v]) >= 2:
+            bit[v] = count
+            count += 1
     keep = [False] * graph.n_edges
-    reach: list[int | None] = [None] * n
+    via: dict[int, int] = {}
+    reach: list = [None] * n
     waiting = [len(p) for p in pred]
     for v in reversed(order):
         out = succ[v]
-        if not out:
-            reach[v] = 1 << pos[v]
-            continue
-        # Closest successors first: a later-positioned successor can never
-        # reach an earlier-positioned one.
-        if len(out) > 1:
-            out = sorted(out, key=lambda e: pos[el[e]])
-        acc = 0
-        for e in out:
+        if len(out) == 1:
+            e = out[0]
             w = el[e]
-            if not (acc >> pos[w]) & 1:
-                keep[e] = True
-                acc |= reach[w]
+            keep[e] = True
+            reach[v] = (bit[v], reach[w])
             waiting[w] -= 1
             if waiting[w] == 0:
                 reach[w] = None
-        reach[v] = acc | (1 << pos[v])
+        elif out:
+            reach[v] = _union_of_successors(v, out, pos, bit, el, keep, via, reach, waiting, witnesses)
+        else:
+            reach[v] = (1 << bit[v]) if bit[v] >= 0 else 0
         if waiting[v] == 0:
             reach[v] = None
-    return keep
+    return keep, via
 
 
-def _direct_path(graph: TemporalGraph, keep: list[bool], pos: list[int], e0: int,
-                 direct_into: dict[int, int]) -> list[int]:
-    """Edges of a shortest path of direct edges from the earlier to the later end of ``e0``.
+def _union_of_successors(v, out, pos, bit, el, keep, via, reach, waiting, witnesses) -> int:
+    """Keep the edges of ``v`` not implied by its closer successors; return ``v``'s set."""
+    # Closest successors first: a later-positioned successor can never reach
+    # an earlier-positioned one.
+    out = sorted(out, key=lambda e: pos[el[e]])
+    snapshot = len(out) > _SNAPSHOT_FROM
+    acc = _Bits(0)
+    kept: list[tuple[int, _Bits]] = []
+    for e in out:
+        w = el[e]
+        b = bit[w]
+        if b >= 0 and acc.has(b, snapshot):
+            if witnesses:
+                via[e] = kept[0][0] if len(kept) == 1 else next(x for x, r in kept if r.has(b, snapshot))
+        else:
+            keep[e] = True
+            r = _materialise(reach[w])
+            acc = _Bits(acc.value | r)
+            if witnesses:
+                kept.append((w, _Bits(r)))
+            if waiting[w] > 1:
+                reach[w] = r  # another predecessor will need it: keep the union, not the links
+        waiting[w] -= 1
+        if waiting[w] == 0:
+            reach[w] = None
+    if bit[v] >= 0:
+        return acc.value | (1 << bit[v])
+    return acc.value
 
-    Most redundant relationships skip one unit, so a path of two direct edges
-    is looked up first (``direct_into`` maps ``earlier * n + later`` of each
-    kept edge to its index); otherwise a BFS over kept edges, pruned to
-    topological positions before the target.  Returned later end first, for
-    :func:`chain_steps`.
+
+def reduced_edge_mask(graph: TemporalGraph) -> list[bool]:
+    """Per edge, whether it belongs to the transitive reduction.
+
+    Raises ``CycleError`` if the order is not acyclic.  O(n·m/w) word operations
+    in the worst case, usually far less because sets are shared and freed early.
     """
-    src, dst = graph.edge_earlier[e0], graph.edge_later[e0]
-    el = graph.edge_later
-    n = graph.n_nodes
-    for e in graph.succ[src]:
-        if keep[e]:
-            second = direct_into.get(el[e] * n + dst)
-            if second is not None:
-                return [second, e]
-    limit = pos[dst]
-    back = {src: None}
-    queue = deque([src])
-    while queue:
-        x = queue.popleft()
-        for e in graph.succ[x]:
-            if not keep[e]:
-                continue
-            y = el[e]
-            if y in back or pos[y] > limit:
-                continue
-            back[y] = e
-            if y == dst:
-                queue.clear()
-                break
-            queue.append(y)
-    chain = []
-    y = dst
-    while back[y] is not None:
-        e = back[y]
-        chain.append(e)
-        y = graph.edge_earlier[e]
-    return chain
+    with gc_paused():
+        return _sweep(graph, False)[0]
 
 
 def reduce_order(graph: TemporalGraph, *, explain: bool = True) -> Reduction:
-    """Transitive reduction of an acyclic order, with explanations.
+    """Transitive reduction of an acyclic order, with a witness per redundant relationship.
 
     Parameters
     ----------
     graph : TemporalGraph
         Must be acyclic (see :func:`chronology.engine.checks.is_acyclic`).
     explain : bool
-        When True (default) every redundant relationship carries the path of
-        direct relationships implying it.
+        When True (default) every redundant relationship carries its witness
+        node (``via``), from which :func:`implying_path` gives the full path.
 
     Returns
     -------
@@ -181,7 +236,8 @@ def reduce_order(graph: TemporalGraph, *, explain: bool = True) -> Reduction:
     -----
     Nodes are walked in reverse topological order; an edge ``v -> w`` is kept
     only if ``w`` is not already reachable through the successors of ``v``
-    examined before it (closest first).  The result equals
+    examined before it (closest first); the first kept successor whose set
+    holds ``w`` is its witness.  The result equals
     ``networkx.transitive_reduction`` on the same node graph.  Strictness is
     not considered: a strict edge implied only by weak edges is still removed.
 
@@ -191,38 +247,78 @@ def reduce_order(graph: TemporalGraph, *, explain: bool = True) -> Reduction:
     a directed graph. SIAM Journal on Computing 1(2), 131-137.
     """
     with gc_paused():
-        return _reduce(graph, explain)
-
-
-def _reduce(graph: TemporalGraph, explain: bool) -> Reduction:
-    keep = reduced_edge_mask(graph)
-    direct_edges = tuple(e for e, k in enumerate(keep) if k)
-    redundant: list[RedundantRelationship] = []
-    if explain:
-        order = topological_order(graph)
-        pos = [0] * graph.n_nodes
-        for i, v in enumerate(order):
-            pos[v] = i
-        index_of = graph.index_of
-        n = graph.n_nodes
-        ee, el = graph.edge_earlier, graph.edge_later
-        direct_into = {ee[e] * n + el[e]: e for e in direct_edges}
+        keep, via = _sweep(graph, explain)
+        direct_edges = tuple(e for e, k in enumerate(keep) if k)
+        redundant: list[RedundantRelationship] = []
         for e, k in enumerate(keep):
             if k:
                 continue
-            chain = _direct_path(graph, keep, pos, e, direct_into)
-            for rid in graph.edge_relationships[e]:
-                rel = graph.relationships[rid]
-                steps = chain_steps(graph, chain, start=index_of[rel.later], end=index_of[rel.earlier])
-                redundant.append(RedundantRelationship(rid, e, tuple(steps)))
-            for x in graph.edge_extras[e]:
-                ordering = graph.extras[x]
-                steps = chain_steps(graph, chain, start=index_of[ordering.later], end=index_of[ordering.earlier])
-                redundant.append(RedundantRelationship(ordering.ref, e, tuple(steps), recorded=False))
+            w = via.get(e)
+            redundant.extend(RedundantRelationship(rid, e, w) for rid in graph.edge_relationships[e])
+            redundant.extend(RedundantRelationship(graph.extras[x].ref, e, w, recorded=False)
+                             for x in graph.edge_extras[e])
+        return Reduction(direct=tuple(keep), direct_edges=direct_edges, redundant=tuple(redundant))
+
+
+def _direct_chain(graph: TemporalGraph, direct, source: int, target: int) -> list[int]:
+    """Edges of a shortest path of direct edges source ⇝ target, later end first.
+
+    Breadth-first search over kept edges, pruned to topological positions
+    before the target (no path to it can leave that region).
+    """
+    pos = _position(graph)
+    limit = pos[target]
+    el, ee = graph.edge_later, graph.edge_earlier
+    back = {source: None}
+    queue = deque([source])
+    while queue and target not in back:
+        x = queue.popleft()
+        for e in graph.succ[x]:
+            y = el[e]
+            if direct[e] and y not in back and pos[y] <= limit:
+                back[y] = e
+                queue.append(y)
+    if target not in back:
+        raise ValueError("no path of direct edges joins the witness to the later end")
+    chain = []
+    y = target
+    while back[y] is not None:
+        e = back[y]
+        chain.append(e)
+        y = ee[e]
+    return chain
+
+
+def _position(graph: TemporalGraph) -> list[int]:
+    pos = graph._cache.get("topo_position")
+    if pos is None:
+        pos = [0] * graph.n_nodes
+        for i, v in enumerate(topological_order(graph)):
+            pos[v] = i
+        graph._cache["topo_position"] = pos
+    return pos
+
+
+def implying_path(graph: TemporalGraph, reduction: Reduction, item: RedundantRelationship) -> list[PathStep]:
+    """The full path of recorded relationships that implies a redundant one.
+
+    Expands the witness: the direct edge from the earlier end of ``item`` to
+    its witness, then a shortest path of direct edges from the witness to the
+    later end (breadth-first, O(n + m) for one relationship), written later
+    end first with the equality chains inside merged nodes spelt out.
+    """
+    e0 = item.edge
+    source, target = graph.edge_earlier[e0], graph.edge_later[e0]
+    via = item.via
+    if via is None:
+        raise ValueError("the reduction was computed without witnesses (explain=False)")
+    first = next(e for e in graph.succ[source] if graph.edge_later[e] == via and reduction.direct[e])
+    chain = (_direct_chain(graph, reduction.direct, via, target) if via != target else []) + [first]
+    if item.recorded:
+        rel = graph.relationships[item.id]
+        later, earlier = rel.later, rel.earlier
     else:
-        for e, k in enumerate(keep):
-            if not k:
-                redundant.extend(RedundantRelationship(rid, e, ()) for rid in graph.edge_relationships[e])
-    return Reduction(direct=tuple(keep), direct_edges=direct_edges, redundant=tuple(redundant))
-
-
+        ordering = next(graph.extras[x] for x in graph.edge_extras[e0] if graph.extras[x].ref == item.id)
+        later, earlier = ordering.later, ordering.earlier
+    index_of = graph.index_of
+    return chain_steps(graph, chain, start=index_of[later], end=index_of[earlier])

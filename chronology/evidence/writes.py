@@ -19,9 +19,8 @@ from django.db import IntegrityError
 
 from chronology.engine.radiocarbon import cra_from_f14c
 from projects.models import Context, Project
-from projects.record.changes import Actor, ChangeSet, record_change
 from projects.record.errors import RecordConflict, RecordInvalid, RecordNotFound
-from projects.record.writes import WriteResult, _parse_uid
+from projects.record.writes import Actor, ChangeSet, WriteResult, parse_uid, record_change
 
 from . import calibrate
 from .curves import resolve_curve
@@ -151,7 +150,7 @@ _SAMPLE_FIELDS = {"context", "code", "material", "short_lived", "notes"}
 def _add_sample(changes: ChangeSet, fields: dict, uid) -> WriteResult:
     project = changes.project
     _unknown(fields, _SAMPLE_FIELDS)
-    uid = _parse_uid(uid)
+    uid = parse_uid(uid)
     context = _context(project, fields.get("context"))
     cleaned = {
         "context_id": context.id,
@@ -246,7 +245,7 @@ def _reservoir(fields: dict, organisation_id) -> dict:
 def _add_determination(changes: ChangeSet, fields: dict, uid) -> WriteResult:
     project = changes.project
     _unknown(fields, _DETERMINATION_FIELDS)
-    uid = _parse_uid(uid)
+    uid = parse_uid(uid)
     sample = _sample(project, fields.get("sample"))
     lab_code = _text(fields, "lab_code", required=True, max_length=64)
     measurement = _measurement(fields)
@@ -317,7 +316,7 @@ def _year(fields: dict, name: str, *, required: bool) -> float | None:
 def _add_calendar_date(changes: ChangeSet, fields: dict, uid) -> WriteResult:
     project = changes.project
     _unknown(fields, _CALENDAR_FIELDS)
-    uid = _parse_uid(uid)
+    uid = parse_uid(uid)
     sample = None
     if fields.get("sample") not in (None, ""):
         sample = _sample(project, fields["sample"])
@@ -371,7 +370,7 @@ _TERMINUS_FIELDS = {"context", "kind", "year", "year_end", "find", "notes"}
 def _add_terminus(changes: ChangeSet, fields: dict, uid) -> WriteResult:
     project = changes.project
     _unknown(fields, _TERMINUS_FIELDS)
-    uid = _parse_uid(uid)
+    uid = parse_uid(uid)
     context = _context(project, fields.get("context"))
     cleaned = {
         "context_id": context.id,
@@ -461,7 +460,10 @@ def retract_evidence(project: Project, actor: Actor, kind: str, object_id: int, 
 
 
 def retract_for_context(changes: ChangeSet, context, reason: str) -> None:
-    """Retract, in ``changes``, all active evidence of a context being retracted."""
+    """Retract, in ``changes``, all active evidence of a context being retracted.
+
+    Connected to ``projects.record.hooks.context_retracting`` (see ``apps.py``).
+    """
     linked = f"context {context.label} retracted: {reason}"
     for sample in Sample.objects.filter(context=context, retracted_revision__isnull=True):
         for det in Determination.objects.filter(sample=sample, retracted_revision__isnull=True).select_related(

@@ -15,7 +15,7 @@ from django.utils import timezone
 from chronology.engine.interpretation_diff import diff_interpretations, diff_text
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES
 from projects.models import ChangeLogEntry, Context, Project, RecordState, Relationship, Role
-from projects.record import reads
+from projects.record import history, reads
 from projects.record.changes import Actor
 from projects.record.errors import RecordConflict, RecordError, RecordInvalid, RecordNotFound
 from projects.record.representation import relationship_text
@@ -75,26 +75,9 @@ def require_role(project: Project, actor: Actor, role: str) -> None:
 
 def log_action(project: Project, actor: Actor, action: str, *, kind: str, object_id, repr_: str,
                before=None, after=None, message: str = "") -> ChangeLogEntry:
-    """One change-log entry at the project's current record revision (not bumped)."""
-    user = actor.user if getattr(actor.user, "is_authenticated", False) else None
-    revision = Project.objects.filter(pk=project.pk).values_list("revision", flat=True).get()
-    return ChangeLogEntry.objects.create(
-        project=project,
-        revision=revision,
-        created_at=timezone.now(),
-        user=user,
-        user_name=getattr(user, "username", "") if user else "",
-        token=actor.token,
-        device=actor.device_name,
-        request_id=actor.request_id,
-        action=action,
-        object_kind=kind,
-        object_id=object_id,
-        object_repr=repr_[:200],
-        before=before,
-        after=after,
-        message=message,
-    )
+    """One change-log entry at the project's current record revision (not bumped), chained by the record."""
+    return history.log_entry(project, actor, action, kind=kind, object_id=object_id, repr_=repr_,
+                             before=before, after=after, message=message)
 
 
 def _summary(version: Version) -> dict:

@@ -10,6 +10,6 @@ from chronology.jobs import execute
 @shared_task(name="interpretations.analyse_version_alternatives", acks_late=True, ignore_result=True)
 def analyse_version_alternatives(job_id: str) -> None:
     """Analyse the alternatives of the version named in the job's params."""
-    from .alternatives import run
+    from .alternatives_analysis import run
 
     execute(job_id, run)

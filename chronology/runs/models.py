@@ -70,6 +70,15 @@ class Run(models.Model):
     library_versions = models.JSONField(default=dict)
     software_commit = models.CharField(max_length=64, blank=True)
 
+    converge = models.BooleanField(default=True, help_text="Extend the run until every reported quantity converges.")
+    budget_seconds = models.PositiveIntegerField(default=900, help_text="Wall time the run may take to converge.")
+    max_iterations = models.PositiveIntegerField(default=200_000,
+                                                 help_text="Most kept sweeps per chain the run may reach.")
+    rounds = models.JSONField(default=list, blank=True,
+                              help_text="Each extension: iterations and chains after it, and why it was made.")
+    verdict = models.JSONField(null=True, blank=True,
+                               help_text="Why the run ended as it did: converged, or which budget ran out.")
+
     combining = models.BooleanField(default=False)
     timings = models.JSONField(default=dict, blank=True)
     error = models.JSONField(null=True, blank=True)
@@ -116,13 +125,19 @@ class RunChain(models.Model):
     run = models.ForeignKey(Run, on_delete=models.CASCADE, related_name="chain_rows")
     index = models.PositiveSmallIntegerField()
     state = models.CharField(max_length=10, choices=ChainState.choices, default=ChainState.QUEUED)
-    sweeps_done = models.PositiveIntegerField(default=0)
-    attempts = models.PositiveSmallIntegerField(default=0)
+    sweeps_done = models.PositiveIntegerField(default=0, help_text="Sweeps done in the segment being sampled.")
+    iterations_done = models.PositiveIntegerField(default=0, help_text="Kept sweeps stored in the chain file.")
+    segments = models.PositiveSmallIntegerField(default=0, help_text="Segments stored (one per extension).")
+    attempts = models.PositiveSmallIntegerField(default=0, help_text="Claims of the current segment.")
     worker = models.CharField(max_length=200, blank=True)
     heartbeat_at = models.DateTimeField(null=True, blank=True)
+    lease_expires_at = models.DateTimeField(null=True, blank=True,
+                                            help_text="The worker holding the chain must renew this by then.")
+    enqueued_at = models.DateTimeField(null=True, blank=True)
+    compile_seconds = models.FloatField(null=True, blank=True, help_text="Kernel compile or cache load time.")
     started_at = models.DateTimeField(null=True, blank=True)
     finished_at = models.DateTimeField(null=True, blank=True)
-    seconds = models.FloatField(null=True, blank=True, help_text="Sampling time of the stored draws.")
+    seconds = models.FloatField(null=True, blank=True, help_text="Sampling time of the stored draws (all segments).")
     draws = models.PositiveIntegerField(default=0)
 
     class Meta:

@@ -2,10 +2,13 @@
 
 Everything numerical comes from the engine: question draws and summaries
 (:mod:`chronology.engine.posterior`), convergence diagnostics with ArviZ
-(:mod:`chronology.engine.diagnostics`) and the stacked posterior plot.  This
-module reads the chain files, writes the artefacts into the run's folder and
-turns the summary into plain JSON.  Every output names the curve(s), the
-prior and the run, and carries the engine's caution.
+(:mod:`chronology.engine.diagnostics`); the figures are drawn by
+:mod:`chronology.runs.figures`.  This module reads the chain files, writes
+the artefacts into the run's folder and turns the summary into plain JSON.
+Every output names the curve(s), the prior and the run, and carries the
+engine's caution.  Events, questions and outliers are named in plain words:
+contexts by label, determinations by lab code, boundaries as "Beginning of
+X", "Close of X" or "Changeover X to Y".
 """
 
 from __future__ import annotations
@@ -25,17 +28,20 @@ from chronology.engine.diagnostics import (
     write_netcdf,
 )
 from chronology.engine.diagnostics import diagnose as engine_diagnose
+from chronology.engine.calendar_scales import format_range
+from chronology.engine.hpd import hpd_regions
+from chronology.engine.labels import format_probability, label_list
 from chronology.engine.model import Model
-from chronology.engine.plots.posterior_plot import render_posterior_plot
 from chronology.engine.posterior import CAUTION, HPD_MASSES, PosteriorSummary, question_draws, summarise
+from chronology.runs.figures import write_run_figures
 
 __all__ = ["CAUTION", "NOT_CONVERGED", "load_model", "load_chain", "combine_draws", "compute_results",
            "summary_for_database", "read_chain_file", "write_chain_file"]
 
 NOT_CONVERGED = (
-    f"NOT CONVERGED: at least one reported quantity has R-hat above {R_HAT_MAX} or a bulk effective sample "
-    f"size below {ESS_BULK_MIN:g} (Vehtari et al. 2021). Continue the run for more iterations before using "
-    "these results."
+    f"NOT CONVERGED: at least one reported quantity has R-hat above {R_HAT_MAX} or a bulk or tail effective "
+    f"sample size below {ESS_BULK_MIN:g} (Vehtari et al. 2021). Continue the run for more iterations before "
+    "using these results."
 )
 
 
@@ -116,7 +122,35 @@ def _finite(x):
     return x if np.isfinite(x) else None
 
 
-def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels: dict, *, densities: bool) -> dict:
+def _unmodelled(years, likelihood) -> dict | None:
+    """HPD ranges of the event's evidence calibrated alone (no model), as in :func:`_ranges`."""
+    if likelihood is None or not np.isfinite(likelihood).all() or likelihood.max() <= 0:
+        return None
+    out = {}
+    for m in HPD_MASSES:
+        rs = hpd_regions(years, likelihood, m)
+        out[f"{m * 100:.1f}"] = [{"from": r.start, "to": r.end, "probability": r.probability,
+                                  "text": format_range(r.start, r.end), "text_cal_bp": format_range(r.start, r.end, "bp")}
+                                 for r in rs]
+    return out
+
+
+def _evidence_names(evidence_rows) -> dict:
+    """Evidence key -> how a reader knows it: lab codes for radiocarbon, else its label."""
+    out = {}
+    for row in evidence_rows or ():
+        codes = row.get("lab_codes") or []
+        out[row["key"]] = label_list(codes, sort=False) if codes else (row.get("label") or row["key"])
+    return out
+
+
+def _phases(model: Model) -> list[dict]:
+    return [{"key": p.key, "label": p.label, "beginning": p.beginning, "close": p.close,
+             "members": list(p.members), "arrangement_next": p.arrangement_next} for p in model.phases]
+
+
+def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels: dict, *, densities: bool,
+                    evidence_rows=()) -> dict:
     diag = {q.name: q for q in report.quantities}
 
     def d(name):
@@ -134,6 +168,7 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
             "median": e.median, "median_text": e.median_text, "median_cal_bp": e.median_cal_bp,
             "mean": e.mean, "mcse_mean": _finite(e.mcse_mean),
             "hpd": _ranges(e.hpd, e.hpd_text, e.hpd_text_bp),
+            "unmodelled": _unmodelled(model.grid.years, e.likelihood),
             "diagnostics": d(e.key),
         }
         if densities:
@@ -144,19 +179,26 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
     for q in summary.questions:
         row = {"key": q.key, "label": labels.get(q.key, q.key), "kind": q.kind, "a": q.a, "b": q.b,
                "mean": q.mean, "mcse": _finite(q.mcse), "median": _finite(q.median), "diagnostics": d(q.key)}
-        if q.kind == "order":
+        if q.kind == "precedence":
             row["probability"] = q.mean
+            row["probability_text"] = format_probability(q.mean)
         else:
             row["unit"] = "years"
             row["hpd"] = {f"{m * 100:.1f}": [{"from": r.start, "to": r.end, "probability": r.probability} for r in rs]
                           for m, rs in q.hpd.items()}
         questions.append(row)
-    outliers = [{"evidence": o.evidence_key, "event": o.event_key, "prior": o.prior, "posterior": o.posterior,
+    names = _evidence_names(evidence_rows)
+    event_labels = {e.key: e.label for e in model.events}
+    outliers = [{"evidence": o.evidence_key, "name": names.get(o.evidence_key, o.evidence_key),
+                 "event": o.event_key, "event_label": event_labels.get(o.event_key, ""),
+                 "chance_assumed": o.prior, "chance_estimated": o.posterior,
+                 "chance_estimated_text": format_probability(o.posterior),
                  "mcse": _finite(o.mcse), "diagnostics": d(o.evidence_key)} for o in summary.outliers]
     converged = bool(report.converged)
     out = {
         "run": str(run.pk),
         "project": run.project.code,
+        "site": run.project.name,
         "version": run.version_id,
         "version_label": run.version_label,
         "record_revision": run.record_revision,
@@ -176,6 +218,8 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
                      "continues": str(run.parent_id) if run.parent_id else None},
         "software": {"commit": run.software_commit, "libraries": dict(run.library_versions)},
         "converged": converged,
+        "verdict": getattr(run, "verdict", None),
+        "timings": dict(getattr(run, "timings", None) or {}),
         "convergence": {
             "converged": converged,
             "warning": None if converged else NOT_CONVERGED,
@@ -185,6 +229,7 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
             "thresholds": dict(report.thresholds),
             "method": report.method,
         },
+        "phases": _phases(model),
         "events": events,
         "questions": questions,
         "outliers": outliers,
@@ -205,37 +250,25 @@ def compute_results(run) -> dict:
              "chains": run.chains, "warmup": run.warmup, "thin": run.thin,
              "continues": str(run.parent_id or ""), "software_commit": run.software_commit}
     idata = to_inference_data(dates, model.event_keys, outliers, evidence_keys, qd, qkeys, attrs=attrs)
-    report = engine_diagnose(idata, probability_questions=[q.key for q in model.questions if q.kind == "order"])
+    report = engine_diagnose(idata, probability_questions=[q.key for q in model.questions if q.kind == "precedence"])
     summary = summarise(model, dates, outliers, evidence_keys=evidence_keys, curves=_curve_names(run),
                         run_id=str(run.pk), diagnostics=report)
     labels = (run.summary or {}).get("question_labels", {})
+    evidence_rows = (run.summary or {}).get("evidence", [])
     # A private temporary name: two combines of one run (a redelivered task)
     # must never write the same HDF5 file at once.
     tmp = run.path(f".samples.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp.nc")
     write_netcdf(idata, str(tmp))
     os.replace(tmp, run.path("samples.nc"))
-    full = summary_to_dict(run, model, summary, report, labels, densities=True)
-    full["evidence"] = (run.summary or {}).get("evidence", [])
+    full = summary_to_dict(run, model, summary, report, labels, densities=True, evidence_rows=evidence_rows)
+    full["evidence"] = evidence_rows
     full["years"] = {"start": model.grid.start, "step": model.grid.step, "n": model.grid.n}
     _write(run.path("results.json"), json.dumps(full, allow_nan=False))
-    if not summary.converged:
-        summary = _flag_plot(summary)
-    for fmt in ("svg", "png"):
-        data = render_posterior_plot(model, summary, fmt)
-        tmp = run.path(f".plot.tmp.{fmt}")
-        tmp.write_bytes(data)
-        os.replace(tmp, run.path(f"plot.{fmt}"))
-    brief = summary_to_dict(run, model, summary, report, labels, densities=False)
+    write_run_figures(run, full)
+    brief = summary_to_dict(run, model, summary, report, labels, densities=False, evidence_rows=evidence_rows)
     brief["evidence"] = full["evidence"]
     brief["question_labels"] = labels
     return brief
-
-
-def _flag_plot(summary: PosteriorSummary) -> PosteriorSummary:
-    import dataclasses
-
-    # the plot's footer carries the caution: put the verdict in front of it
-    return dataclasses.replace(summary, caution=f"{NOT_CONVERGED} {summary.caution}")
 
 
 def _write(path: Path, text: str) -> None:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from chronology.engine.calendar_scales import format_year
 
-from .compile import CalendarDate, Determination, EvidenceSet, ModelRefused, Sample, Terminus
+from .model_inputs import CalendarDate, Determination, EvidenceSet, ModelRefused, Sample, Terminus
 
 __all__ = ["version_parts", "evidence_at", "find_version", "current_reading", "version_label"]
 

@@ -41,7 +41,7 @@ def markdown_summary(run, summary: dict) -> str:
     if summary.get("questions"):
         lines += ["", "## Questions", "", "| Question | Estimate | MCSE |", "|---|---|---|"]
         for q in summary["questions"]:
-            if q["kind"] == "order":
+            if q["kind"] == "precedence":
                 value = f"P = {q['probability']:.3f}"
             else:
                 hpd = "; ".join(f"{r['from']:.0f} to {r['to']:.0f}" for r in q["hpd"].get("95.4", []))

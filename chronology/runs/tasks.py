@@ -1,242 +1,159 @@
-"""Celery tasks of model runs: one task per chain, then the combine step.
+"""Celery tasks of model runs: one task per chain segment, the round's end, and the sweeper.
 
-Each chain task is acknowledged late (``acks_late``, and rejected back to the
-queue if its worker dies), so a run survives a worker restart: the broker
-hands the chain to the next worker.  The tasks are idempotent:
+Every chain task is acknowledged late and rejected back to the queue when
+its worker process dies (``acks_late``, ``reject_on_worker_lost``), and is
+idempotent, so any number of deliveries of one message do the work once:
 
-* a chain whose draws are already stored (for this run's model hash and
-  seed) is not sampled again; the task only checks whether the run can be
-  combined;
-* a chain another live worker is sampling (heartbeat younger than
-  ``TELLSTACK_RUN_STALE_SECONDS``, default 60) is left to it;
-* a run already finished, failed or cancelled is left alone.
+* a chain whose draws are stored (for this run's model hash and seed, as many
+  as the run now asks for) is not sampled again: the task only checks whether
+  the round is over;
+* a chain leased to another live worker is left to it (``busy``); a chain
+  whose lease ran out, or whose holder is a dead process on this host, is
+  taken over (:mod:`chronology.runs.leases`);
+* a run that has ended is left alone.
 
-The last chain to finish (counted under a row lock on the run) runs the
-combine step in the same task, so the same code path works with a real
-worker and in eager mode.  Two chains finishing at the same moment may both
-combine: the combine is deterministic and writes its files atomically, and
-only the first to finish stores the outcome.  ``combine_run_task`` does the
-same on its own, for recovery.
+A chain that has draws from earlier rounds samples only the missing ones, as
+a new segment from its own seed (``SeedSequence(entropy, spawn_key=(chain,
+draws stored))``; the first segment uses ``chain_seeds``), and appends them
+to its file, so the same model, seed and settings give identical draws
+whatever was interrupted on the way.
 
-Cancellation: the sampler calls a cancel check every few hundred sweeps; it
-reads the run's ``cancel_requested`` flag (and stops too when another chain
-has failed the run).
+The kernels are compiled (or loaded from the disk cache) before a chain
+claims its lease, and the seconds it took are stored as the chain's compile
+time, apart from its sampling time.
+
+Cancellation and lost leases: the sampler calls a check every few hundred
+sweeps; it stops on the run's ``cancel_requested`` flag, when the run has
+ended, and when a heartbeat finds that this process no longer holds the
+chain's lease (the sweeper gave it to another worker).
 """
 
 from __future__ import annotations
 
-import logging
-import os
-import socket
 import time
-import traceback
-from datetime import datetime, timedelta
+from types import SimpleNamespace
 from typing import Callable
 
+import numpy as np
 from celery import shared_task
-from django.conf import settings
 from django.db import transaction
 from django.utils import timezone
 
 from chronology.engine.errors import EngineError, SamplingCancelled
 from chronology.engine.sampler import chain_seeds, flatten, run_chain
 
-from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
-from .results import compute_results, load_chain, load_model, write_chain_file
+from . import kernels, leases
+from .models import TERMINAL_STATES, ChainState, Run, RunChain
+from .outcomes import cancel_locked, crash_error, fail_run
+from .results import load_chain, load_model, write_chain_file
+from .rounds import after_chain, combine
 
-__all__ = ["run_chain_task", "combine_run_task", "execute_chain", "combine", "CHECK_EVERY"]
-
-log = logging.getLogger(__name__)
+__all__ = ["run_chain_task", "combine_run_task", "sweep_runs_task", "execute_chain", "combine", "CHECK_EVERY",
+           "segment_seed"]
 
 #: Sweeps between progress reports and cancel checks.
 CHECK_EVERY = 250
-_PROGRESS_INTERVAL = 0.5
+#: Seconds between heartbeats when the settings ask for less (tests shorten it).
+_PROGRESS_INTERVAL = None
 
 
-def _stale_after() -> float:
-    return float(getattr(settings, "TELLSTACK_RUN_STALE_SECONDS", None)
-                 or os.environ.get("TELLSTACK_RUN_STALE_SECONDS") or 60)
+def _interval() -> float:
+    return leases.heartbeat_seconds() if _PROGRESS_INTERVAL is None else _PROGRESS_INTERVAL
 
 
-def _worker_name() -> str:
-    return f"{socket.gethostname()}:{os.getpid()}"
+def segment_seed(entropy: int, n_chains: int, k: int, have: int) -> np.random.SeedSequence:
+    """The seed of chain ``k``'s next segment, given the ``have`` draws it already stores."""
+    if have == 0:
+        return chain_seeds(entropy, max(n_chains, k + 1))[k]
+    return np.random.SeedSequence(entropy, spawn_key=(k, have))
 
 
-def _claim(run_id: str, k: int) -> tuple[Run | None, RunChain | None, str]:
-    """Lock the chain row and decide: ``sample``, ``stored``, ``busy`` or ``skip``."""
-    with transaction.atomic():
-        run = Run.objects.select_for_update().filter(pk=run_id).first()
-        if run is None or run.state in TERMINAL_STATES:
-            return run, None, "skip"
-        chain = RunChain.objects.select_for_update().filter(run=run, index=k).first()
-        if chain is None:
-            return run, None, "skip"
-        if load_chain(run, k) is not None:
-            if chain.state != ChainState.DONE:
-                chain.state = ChainState.DONE
-                chain.save(update_fields=["state"])
-            return run, chain, "stored"
-        if run.cancel_requested:
-            chain.state = ChainState.CANCELLED
-            chain.save(update_fields=["state"])
-            _cancel_locked(run)
-            return run, chain, "skip"
-        now = timezone.now()
-        fresh = chain.heartbeat_at is not None and now - chain.heartbeat_at < timedelta(seconds=_stale_after())
-        if chain.state == ChainState.RUNNING and fresh and chain.worker != _worker_name():
-            return run, chain, "busy"
-        chain.state = ChainState.RUNNING
-        chain.attempts += 1
-        chain.worker = _worker_name()
-        chain.heartbeat_at = now
-        chain.started_at = chain.started_at or now
-        chain.sweeps_done = 0
-        chain.save(update_fields=["state", "attempts", "worker", "heartbeat_at", "started_at", "sweeps_done"])
-        if run.state == RunState.QUEUED:
-            run.state = RunState.RUNNING
-            run.started_at = run.started_at or now
-            run.save(update_fields=["state", "started_at"])
-        return run, chain, "sample"
+def _append(run: Run, k: int, result) -> SimpleNamespace:
+    """The chain file's draws followed by ``result``'s (the first segment's start state is kept)."""
+    old = load_chain(run, k) if result is not None else None
+    if old is None:
+        return result
+    return SimpleNamespace(
+        chain=k, event_keys=result.event_keys, evidence_keys=result.evidence_keys,
+        draws=np.concatenate([old["draws"], result.draws]), outliers=np.concatenate([old["outliers"], result.outliers]),
+        initial=old["initial"], seconds=float(old["seconds"]) + result.seconds,
+    )
 
 
-def _cancel_locked(run: Run) -> None:
-    if run.state not in TERMINAL_STATES:
-        run.state = RunState.CANCELLED
-        run.finished_at = timezone.now()
-        run.save(update_fields=["state", "finished_at"])
-    RunChain.objects.filter(run=run, state=ChainState.QUEUED).update(state=ChainState.CANCELLED)
-
-
-def _fail(run_id: str, k: int | None, error: dict) -> None:
-    with transaction.atomic():
-        run = Run.objects.select_for_update().get(pk=run_id)
-        if k is not None:
-            RunChain.objects.filter(run=run, index=k).update(state=ChainState.FAILED, finished_at=timezone.now())
-        if run.state not in TERMINAL_STATES:
-            run.state = RunState.FAILED
-            run.error = error
-            run.finished_at = timezone.now()
-            run.save(update_fields=["state", "error", "finished_at"])
-
-
-def execute_chain(run_id: str, k: int, on_progress: Callable[[int, int, int], None] | None = None) -> str:
-    """Sample chain ``k`` of run ``run_id`` (idempotent); returns what was done.
+def execute_chain(run_id: str, k: int, on_progress: Callable[[int, int, int], None] | None = None, *,
+                  dispatch: bool = True) -> str:
+    """Sample what chain ``k`` of run ``run_id`` still needs (idempotent); returns what was done.
 
     ``on_progress(k, sweeps_done, total)`` is called on every report, for a
-    terminal progress bar.
+    terminal progress bar.  ``dispatch=False`` (in-process runs) leaves the
+    chains of a further round to the caller instead of sending them to the
+    workers.
     """
-    run, chain, decision = _claim(run_id, k)
-    if decision == "stored":
-        _after_chain(run_id)
-        return decision
-    if decision != "sample":
-        return decision
-    total = run.total_sweeps
-    last = {"progress": 0.0, "cancel": 0.0, "cancelled": False}
+    waited = kernels.ensure_compiled()
+    c = leases.claim(run_id, k, compile_seconds=waited)
+    if c.decision == "stored":
+        after_chain(run_id, dispatch=dispatch)
+        return "stored"
+    if c.decision == "lost":
+        fail_run(run_id, leases.lost_chain_error(k, c.chain.attempts), chain=k)
+        return "failed"
+    if c.decision != "sample":
+        return c.decision
+    run, chain = c.run, c.chain
+    iterations = c.need * run.thin
+    total = run.warmup + iterations
+    last = {"beat": 0.0, "stop": False}
 
     def progress(done: int) -> None:
         if on_progress is not None:
             on_progress(k, done, total)
         now = time.monotonic()
-        if done < total and now - last["progress"] < _PROGRESS_INTERVAL:
+        if done < total and now - last["beat"] < _interval():
             return
-        last["progress"] = now
-        RunChain.objects.filter(pk=chain.pk).update(sweeps_done=done, heartbeat_at=timezone.now())
-
-    def cancel() -> bool:
-        now = time.monotonic()
-        if now - last["cancel"] < _PROGRESS_INTERVAL:
-            return last["cancelled"]
-        last["cancel"] = now
-        row = Run.objects.filter(pk=run_id).values("cancel_requested", "state").first()
-        last["cancelled"] = row is None or row["cancel_requested"] or row["state"] in TERMINAL_STATES
-        return last["cancelled"]
+        last["beat"] = now
+        if not leases.renew(chain.pk, done):
+            last["stop"] = True  # the sweeper gave the chain to someone else
+        else:
+            row = Run.objects.filter(pk=run_id).values("cancel_requested", "state").first()
+            last["stop"] = row is None or row["cancel_requested"] or row["state"] in TERMINAL_STATES
 
     try:
         model = load_model(run)
-        seeds = chain_seeds(int(run.seed_entropy), run.chains)
-        result = run_chain(flatten(model), seeds[k], chain=k, iterations=run.iterations, warmup=run.warmup,
-                           thin=run.thin, progress=progress, cancel=cancel, check_every=CHECK_EVERY)
-        write_chain_file(run.chain_path(k), result, model_hash=run.model_hash, seed_entropy=run.seed_entropy)
+        seed = segment_seed(int(run.seed_entropy), run.chains, k, c.have)
+        result = run_chain(flatten(model), seed, chain=k, iterations=iterations, warmup=run.warmup, thin=run.thin,
+                           progress=progress, cancel=lambda: last["stop"], check_every=CHECK_EVERY)
+        merged = _append(run, k, result)
+        write_chain_file(run.chain_path(k), merged, model_hash=run.model_hash, seed_entropy=run.seed_entropy)
     except SamplingCancelled:
-        with transaction.atomic():
-            locked = Run.objects.select_for_update().get(pk=run_id)
-            RunChain.objects.filter(pk=chain.pk).update(state=ChainState.CANCELLED, finished_at=timezone.now())
-            if locked.cancel_requested:
-                _cancel_locked(locked)
-        return "cancelled"
+        return _stopped(run_id, chain.pk)
     except EngineError as exc:
-        _fail(run_id, k, {"code": exc.code, "message": exc.message, "chain": k, **exc.details})
+        fail_run(run_id, {"code": exc.code, "message": exc.message, "chain": k}, chain=k)
         return "failed"
-    except Exception as exc:  # a crash: keep the reason on the run for the user
-        log.exception("chain %s of run %s crashed", k, run_id)
-        _fail(run_id, k, {"code": "crashed", "message": str(exc) or type(exc).__name__, "chain": k,
-                          "traceback": traceback.format_exc(limit=8)})
+    except Exception:  # a crash: the user gets a reason and a log reference, the log the traceback
+        fail_run(run_id, crash_error("crashed", f"chain {k} of the run", chain=k), chain=k)
         return "failed"
     RunChain.objects.filter(pk=chain.pk).update(
         state=ChainState.DONE, sweeps_done=total, finished_at=timezone.now(), heartbeat_at=timezone.now(),
-        seconds=result.seconds, draws=int(result.draws.shape[0]),
+        lease_expires_at=None, seconds=float(merged.seconds), draws=int(merged.draws.shape[0]),
+        iterations_done=int(merged.draws.shape[0]) * run.thin, segments=chain.segments + 1, attempts=0,
     )
-    _after_chain(run_id)
+    after_chain(run_id, dispatch=dispatch)
     return "sampled"
 
 
-def _after_chain(run_id: str) -> None:
-    """Combine when every chain is stored (checked under the run's row lock)."""
+def _stopped(run_id: str, chain_pk: int) -> str:
+    """The sampler stopped on a check: cancelled, the run ended, or the lease was lost."""
     with transaction.atomic():
-        run = Run.objects.select_for_update().filter(pk=run_id).first()
-        if run is None or run.state in TERMINAL_STATES:
-            return
-        done = RunChain.objects.filter(run=run, state=ChainState.DONE).count()
-        if done < run.chains:
-            return
-        # Two chains finishing together both get here: only one combines.  A
-        # combine claimed longer ago than the stale limit is taken over (its
-        # worker died), so a redelivered task still finishes the run.
-        now = timezone.now()
-        started = (run.timings or {}).get("combine_claimed_at")
-        stale = getattr(settings, "TELLSTACK_RUN_STALE_SECONDS", 60)
-        if run.combining and started and (now - datetime.fromisoformat(started)).total_seconds() < stale:
-            return
-        run.combining = True
-        run.timings = {**(run.timings or {}), "combine_claimed_at": now.isoformat()}
-        run.save(update_fields=["combining", "timings"])
-    combine(run_id)
-
-
-def combine(run_id: str) -> str:
-    """Diagnostics, summaries, plots and NetCDF of a run whose chains are all stored (idempotent)."""
-    run = Run.objects.select_related("project", "parent").filter(pk=run_id).first()
-    if run is None or run.state in TERMINAL_STATES:
-        return "skip"
-    started = time.perf_counter()
-    try:
-        summary = compute_results(run)
-    except FileNotFoundError:
-        return "waiting"
-    except Exception as exc:
-        log.exception("combining run %s failed", run_id)
-        _fail(run_id, None, {"code": "combine-failed", "message": str(exc) or type(exc).__name__,
-                             "traceback": traceback.format_exc(limit=8)})
-        return "failed"
-    seconds = time.perf_counter() - started
-    with transaction.atomic():
-        locked = Run.objects.select_for_update().get(pk=run_id)
-        if locked.state in TERMINAL_STATES:
-            return "skip"
-        chains = list(RunChain.objects.filter(run=locked).order_by("index"))
-        locked.state = RunState.DONE
-        locked.finished_at = timezone.now()
-        locked.combining = False
-        locked.summary = summary
-        locked.converged = bool(summary["converged"])
-        locked.timings = {
-            "chain_seconds": [c.seconds for c in chains],
-            "combine_seconds": seconds,
-            "wall_seconds": (locked.finished_at - locked.started_at).total_seconds() if locked.started_at else None,
-        }
-        locked.save(update_fields=["state", "finished_at", "combining", "summary", "converged", "timings"])
-    return "done"
+        run = Run.objects.select_for_update().get(pk=run_id)
+        mine = RunChain.objects.filter(pk=chain_pk, worker=leases.worker_name(), state=ChainState.RUNNING)
+        if run.cancel_requested:
+            mine.update(state=ChainState.CANCELLED, finished_at=timezone.now(), lease_expires_at=None)
+            cancel_locked(run)
+            return "cancelled"
+        if run.state in TERMINAL_STATES:
+            mine.update(state=ChainState.CANCELLED, finished_at=timezone.now(), lease_expires_at=None)
+            return "cancelled"
+    return "lease-lost"
 
 
 @shared_task(name="runs.run_chain", acks_late=True, reject_on_worker_lost=True, ignore_result=True)
@@ -247,5 +164,13 @@ def run_chain_task(run_id: str, k: int) -> str:
 
 @shared_task(name="runs.combine", acks_late=True, reject_on_worker_lost=True, ignore_result=True)
 def combine_run_task(run_id: str) -> str:
-    """Combine a run whose chains are all stored (recovery path; normally the last chain does it)."""
-    return combine(run_id)
+    """End a run whose chains are all stored (recovery path; normally the last chain does it)."""
+    return after_chain(run_id)
+
+
+@shared_task(name="runs.sweep", ignore_result=True)
+def sweep_runs_task() -> dict:
+    """Requeue chains whose lease ran out, fail those out of attempts, finish stuck cancels (Celery beat)."""
+    from .sweeper import sweep
+
+    return sweep()

@@ -1,10 +1,13 @@
 """Revisions and the change log.
 
 Each write-path transaction makes one ``Revision`` of a project's record and
-one ``ChangeLogEntry`` per object it changes.  A revision's ``digest`` chains
-the previous revision's digest with the canonical JSON of its entries, so the
-record's history is content-addressed and tamper-evident.  Neither table is
-ever edited or deleted from.
+one ``ChangeLogEntry`` per object it changes.  Workflow entries (actions on
+interpretation versions) are logged between revisions without making one;
+each is its own link of the chain and carries its ``digest``.  The chain is
+described in ``projects.record.history``: every field of every entry, the
+state rows each revision writes and closes, and every workflow entry are
+covered, so the record's history is tamper-evident.  Neither table is ever
+edited or deleted from (the ORM refuses, and on PostgreSQL so do triggers).
 """
 
 from __future__ import annotations
@@ -27,12 +30,14 @@ class Revision(AppendOnlyModel):
     user_name = models.CharField(max_length=150, blank=True)
     token = models.ForeignKey(ApiToken, on_delete=models.PROTECT, null=True, blank=True, related_name="+")
     device = models.CharField(max_length=100, blank=True)
-    request_id = models.CharField(max_length=64, blank=True)
+    request_id = models.CharField(max_length=64, blank=True, help_text="The server's id of the request.")
+    client_request_id = models.CharField(max_length=64, blank=True, help_text="The id the client sent, if any.")
     summary = models.CharField(max_length=300, blank=True)
 
     objects = AppendOnlyQuerySet.as_manager()
 
     class Meta:
+        base_manager_name = "objects"
         ordering = ["project_id", "number"]
         constraints = [models.UniqueConstraint(fields=["project", "number"], name="revision_number_unique")]
 
@@ -48,7 +53,8 @@ class ChangeLogEntry(AppendOnlyModel):
     user_name = models.CharField(max_length=150, blank=True)
     token = models.ForeignKey(ApiToken, on_delete=models.PROTECT, null=True, blank=True, related_name="+")
     device = models.CharField(max_length=100, blank=True)
-    request_id = models.CharField(max_length=64, blank=True)
+    request_id = models.CharField(max_length=64, blank=True, help_text="The server's id of the request.")
+    client_request_id = models.CharField(max_length=64, blank=True, help_text="The id the client sent, if any.")
     action = models.CharField(max_length=64, help_text="Dotted code, e.g. record.relationship.retracted.")
     object_kind = models.CharField(max_length=32)
     object_id = models.BigIntegerField(null=True)
@@ -56,10 +62,14 @@ class ChangeLogEntry(AppendOnlyModel):
     before = models.JSONField(null=True)
     after = models.JSONField(null=True)
     message = models.TextField(blank=True)
+    digest = models.CharField(
+        max_length=64, blank=True, help_text="Chain link of a workflow entry; empty for an entry of a revision."
+    )
 
     objects = AppendOnlyQuerySet.as_manager()
 
     class Meta:
+        base_manager_name = "objects"
         ordering = ["project_id", "revision", "id"]
         indexes = [
             models.Index(fields=["project", "revision"]),

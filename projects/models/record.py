@@ -132,6 +132,7 @@ class RecordState(AppendOnlyModel):
     updatable_fields = frozenset({"valid_to"})
 
     class Meta:
+        base_manager_name = "objects"
         ordering = ["project_id", "kind", "object_id", "valid_from"]
         indexes = [
             models.Index(fields=["project", "kind", "valid_from"]),

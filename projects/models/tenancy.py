@@ -84,6 +84,9 @@ class Project(models.Model):
     description = models.TextField(blank=True)
     revision = models.PositiveIntegerField(default=0)
     record_digest = models.CharField(max_length=64, blank=True, help_text="Digest of the latest revision.")
+    head_digest = models.CharField(
+        max_length=64, blank=True, help_text="Head of the record's digest chain (the latest revision or workflow entry)."
+    )
     created_at = models.DateTimeField(auto_now_add=True)
 
     objects = ProjectQuerySet.as_manager()

@@ -2,17 +2,17 @@
 
 ``record_change(project, actor)`` opens a transaction, locks the project row
 (so writes to one project are serialised across processes), and yields a
-``ChangeSet``.  Each change made through it writes the object's new state into
-``RecordState`` and a ``ChangeLogEntry``; on leaving the block the project's
-revision is bumped once and a ``Revision`` row with a chained digest is
-written.  If nothing changed (a replayed no-op), no revision is made.  If
-anything raises, nothing is written.
+``ChangeSet``.  Each change made through it is buffered: the object's new
+state for ``RecordState``, the rows to close, and a ``ChangeLogEntry``.  On
+leaving the block the buffer is written with one bulk insert per table, the
+revision's digest is computed over exactly what is written (see
+``projects.record.history``), and the project's revision is bumped once.  If
+nothing changed (a replayed no-op), no revision is made.  If anything
+raises, nothing is written.
 """
 
 from __future__ import annotations
 
-import hashlib
-import json
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 
@@ -21,29 +21,55 @@ from django.utils import timezone
 
 from projects.models import ChangeLogEntry, Project, RecordState, Revision
 
+from .history import revision_digest
+
+
+@dataclass(frozen=True)
+class ImportedProvenance:
+    """Where a replayed change really came from (a project package being imported).
+
+    The change log and the revision then keep the original time, user name,
+    device and request id; ``user`` is the matching account in the target
+    organisation, or None when the original actor is known only by name.
+    Who ran the import is recorded by the import itself (``exchange``).
+    """
+
+    at: object
+    user_name: str
+    device: str = ""
+    request_id: str = ""
+    user: object | None = None
+
+
+def imported_provenance(imported: ImportedProvenance, common: dict) -> tuple[object, dict]:
+    """The time and log fields of a replayed change: the original ones, no token."""
+    return imported.at, {**common, "user": imported.user, "user_name": imported.user_name[:150],
+                         "token": None, "device": imported.device[:100], "request_id": imported.request_id[:64]}
+
 
 @dataclass(frozen=True)
 class Actor:
-    """Who makes a change: a user, the device token used, and the request."""
+    """Who makes a change: a user, the device token used, and the request.
+
+    ``request_id`` is the server's own id of the request; ``client_request_id``
+    is whatever id the client sent, kept apart because nobody vouches for it.
+    The HTTP layer builds actors (``api.actor``); commands and the demo build
+    them directly.
+    """
 
     user: object
     token: object | None = None
     request_id: str = ""
     device: str = ""
+    client_request_id: str = ""
+    #: Keyword only: the original provenance of a replayed change (see ``ImportedProvenance``).
+    imported: ImportedProvenance | None = field(default=None, kw_only=True)
 
     @property
     def device_name(self) -> str:
         if self.token is not None:
             return self.token.name
         return self.device
-
-    @classmethod
-    def from_request(cls, request) -> "Actor":
-        from api.middleware import current_request_id
-        from projects.models import ApiToken
-
-        token = request.auth if isinstance(request.auth, ApiToken) else None
-        return cls(user=request.user, token=token, request_id=current_request_id(), device="" if token else "web session")
 
 
 @dataclass
@@ -59,23 +85,36 @@ class _Entry:
 
 @dataclass
 class ChangeSet:
+    """The changes of one revision, buffered until ``finish`` writes them in bulk.
+
+    Record writers call ``created`` / ``edited`` / ``retracted`` after
+    writing the object's own row; ``logged`` adds an entry that is not an
+    object's state.  The state rows land in ``RecordState`` at ``finish``, so
+    code inside the change set reads objects from their own tables.
+    """
+
     project: Project
     actor: Actor
     revision: int
     summary: str = ""
     entries: list[_Entry] = field(default_factory=list)
+    _states: dict = field(default_factory=dict)  # (kind, object id) -> data
+    _born: set = field(default_factory=set)  # objects created in this change set
+    _closing: set = field(default_factory=set)  # (kind, object id) whose open row closes
 
     def created(self, kind: str, obj, data: dict, *, repr_: str, message: str = "") -> None:
-        RecordState.objects.create(project=self.project, kind=kind, object_id=obj.pk, valid_from=self.revision, data=data)
+        self._states[(kind, obj.pk)] = data
+        self._born.add((kind, obj.pk))
         self.entries.append(_Entry(f"record.{kind}.added", kind, obj.pk, repr_, None, data, message))
 
     def edited(self, kind: str, obj, before: dict, after: dict, *, repr_: str, message: str = "") -> None:
         self._close(kind, obj.pk)
-        RecordState.objects.create(project=self.project, kind=kind, object_id=obj.pk, valid_from=self.revision, data=after)
+        self._states[(kind, obj.pk)] = after
         self.entries.append(_Entry(f"record.{kind}.edited", kind, obj.pk, repr_, before, after, message))
 
     def retracted(self, kind: str, obj, before: dict, *, repr_: str, reason: str) -> None:
         self._close(kind, obj.pk)
+        self._states.pop((kind, obj.pk), None)
         self.entries.append(_Entry(f"record.{kind}.retracted", kind, obj.pk, repr_, before, None, reason))
 
     def logged(self, action: str, kind: str, object_id, *, repr_: str, before=None, after=None, message="") -> None:
@@ -83,11 +122,11 @@ class ChangeSet:
         self.entries.append(_Entry(action, kind, object_id, repr_, before, after, message))
 
     def _close(self, kind: str, object_id: int) -> None:
-        RecordState.objects.filter(
-            project=self.project, kind=kind, object_id=object_id, valid_to__isnull=True
-        ).update(valid_to=self.revision)
+        if (kind, object_id) not in self._born:
+            self._closing.add((kind, object_id))
 
     def finish(self) -> Revision | None:
+        """Write the buffered revision (once); None if nothing changed."""
         if not self.entries:
             return None
         now = timezone.now()
@@ -99,47 +138,48 @@ class ChangeSet:
             token=self.actor.token,
             device=self.actor.device_name,
             request_id=self.actor.request_id,
+            client_request_id=self.actor.client_request_id,
         )
-        ChangeLogEntry.objects.bulk_create(
-            [
-                ChangeLogEntry(
-                    revision=self.revision,
-                    created_at=now,
-                    action=e.action,
-                    object_kind=e.kind,
-                    object_id=e.object_id,
-                    object_repr=e.object_repr[:200],
-                    before=e.before,
-                    after=e.after,
-                    message=e.message,
-                    **common,
-                )
-                for e in self.entries
-            ]
+        if self.actor.imported is not None:
+            now, common = imported_provenance(self.actor.imported, common)
+        rows = [
+            ChangeLogEntry(
+                revision=self.revision, created_at=now, action=e.action, object_kind=e.kind, object_id=e.object_id,
+                object_repr=e.object_repr[:200], before=e.before, after=e.after, message=e.message, **common,
+            )
+            for e in self.entries
+        ]
+        states = [
+            RecordState(project=self.project, kind=kind, object_id=object_id, valid_from=self.revision, data=data)
+            for (kind, object_id), data in self._states.items()
+        ]
+        self._close_rows()
+        ChangeLogEntry.objects.bulk_create(rows)
+        if states:
+            RecordState.objects.bulk_create(states)
+        parent = self.project.head_digest
+        revision = Revision(
+            number=self.revision, parent_digest=parent, created_at=now,
+            summary=(self.summary or _summarise(self.entries))[:300], **common,
         )
-        parent = self.project.record_digest
-        revision = Revision.objects.create(
-            number=self.revision,
-            parent_digest=parent,
-            digest=_digest(parent, self.entries),
-            created_at=now,
-            summary=(self.summary or _summarise(self.entries))[:300],
-            **common,
+        revision.digest = revision_digest(parent, revision, rows, states, self._closing)
+        revision.save(force_insert=True)
+        Project.objects.filter(pk=self.project.pk).update(
+            revision=self.revision, record_digest=revision.digest, head_digest=revision.digest
         )
-        Project.objects.filter(pk=self.project.pk).update(revision=self.revision, record_digest=revision.digest)
         self.project.revision = self.revision
-        self.project.record_digest = revision.digest
+        self.project.record_digest = self.project.head_digest = revision.digest
+        self.entries, self._states, self._born, self._closing = [], {}, set(), set()
         return revision
 
-
-def _digest(parent: str, entries: list[_Entry]) -> str:
-    payload = json.dumps(
-        [[e.action, e.kind, e.object_id, e.before, e.after, e.message] for e in entries],
-        sort_keys=True,
-        separators=(",", ":"),
-        default=str,
-    )
-    return hashlib.sha256((parent + payload).encode()).hexdigest()
+    def _close_rows(self) -> None:
+        by_kind: dict[str, list[int]] = {}
+        for kind, object_id in self._closing:
+            by_kind.setdefault(kind, []).append(object_id)
+        for kind, ids in by_kind.items():
+            RecordState.objects.filter(
+                project=self.project, kind=kind, object_id__in=ids, valid_to__isnull=True
+            ).update(valid_to=self.revision)
 
 
 def _summarise(entries: list[_Entry]) -> str:
@@ -158,3 +198,4 @@ def record_change(project: Project, actor: Actor, *, summary: str = ""):
         yield changes
         changes.finish()
     project.revision = locked.revision
+    project.record_digest, project.head_digest = locked.record_digest, locked.head_digest

@@ -10,6 +10,7 @@ raises a ``RecordError`` having written nothing when the change is refused.
 from __future__ import annotations
 
 import math
+import unicodedata
 import uuid as uuid_module
 from dataclasses import dataclass
 
@@ -28,12 +29,16 @@ from projects.models.record import Certainty, ContextKind
 
 from . import order_cache
 from .changes import Actor, ChangeSet, record_change
+from .hooks import context_retracting
 from .errors import RecordConflict, RecordInvalid, RecordNotFound
 from .representation import CONTEXT_FIELDS, context_data, relationship_data, relationship_text
 
 __all__ = [
     "Actor",
+    "ChangeSet",
     "WriteResult",
+    "parse_uid",
+    "normalise_label",
     "add_context",
     "edit_context",
     "retract_context",
@@ -66,13 +71,39 @@ def _order(changes: ChangeSet):
     return order
 
 
-def _parse_uid(value, field="uid"):
+def parse_uid(value, field="uid"):
+    """A client-generated uid as a UUID (None when not given); refused naming ``field``."""
     if value is None or value == "":
         return None
     try:
         return uuid_module.UUID(str(value))
     except ValueError:
         raise RecordInvalid(f"{value!r} is not a UUID", field=field, code="invalid-uuid") from None
+
+
+_parse_uid = parse_uid  # the batch path's older name
+
+#: Unicode categories refused in labels: control, format (zero-width space,
+#: bidirectional overrides) and lone surrogates.
+_HIDDEN = frozenset({"Cc", "Cf", "Cs"})
+
+
+def normalise_label(value, field: str = "label") -> str:
+    """A label as stored and looked up: NFKC-normalised and stripped.
+
+    NFKC folds compatibility forms (full-width digits to ASCII digits, for
+    instance; Unicode Standard Annex #15), so two labels that read the same
+    are the same label.  Characters that do not show (control and format
+    characters) are refused rather than dropped: a label with one is most
+    likely an encoding fault or an attempt to pass for another label.
+    """
+    text = unicodedata.normalize("NFKC", str(value))
+    hidden = next((ch for ch in text if unicodedata.category(ch) in _HIDDEN), None)
+    if hidden is not None:
+        raise RecordInvalid(
+            f"{field} holds an invisible character U+{ord(hidden):04X}", field=field, code="invalid-character"
+        )
+    return text.strip()
 
 
 def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
@@ -87,7 +118,7 @@ def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
         if value is not None and not isinstance(value, str) and not (name == "label" and _is_int(value)):
             raise RecordInvalid(f"{name} must be text", field=name, code="invalid-type")
     if "label" in fields or not partial:
-        label = str(fields.get("label") or "").strip()
+        label = normalise_label(fields.get("label") or "")
         if not label:
             raise RecordInvalid("a context needs a number or label", field="label", code="required")
         if len(label) > 64:
@@ -104,6 +135,8 @@ def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
         if name in fields:
             value = fields[name]
             cleaned[name] = "" if value is None else str(value)
+    if cleaned.get("area"):
+        cleaned["area"] = normalise_label(cleaned["area"], "area")
     if "area" in cleaned and len(cleaned["area"]) > 64:
         raise RecordInvalid("areas are at most 64 characters", field="area", code="too-long")
     for name in ("top_level", "base_level"):
@@ -131,17 +164,17 @@ def _check_levels(top, base) -> None:
 
 
 def _active_context(project: Project, ref, field: str) -> Context:
-    """A context of ``project`` by label (string) or id (integer)."""
+    """A context of ``project`` by label (string) or id (integer).
+
+    A context of another project is answered exactly as a missing one, so
+    the answer tells nobody which ids exist elsewhere.
+    """
     qs = Context.objects.filter(project=project, retracted_revision__isnull=True)
     ctx = None
     if isinstance(ref, int) and not isinstance(ref, bool):
         ctx = qs.filter(pk=ref).first()
-        if ctx is None and Context.objects.filter(pk=ref).exclude(project=project).exists():
-            raise RecordInvalid(
-                f"context {ref} does not belong to project {project.code}", field=field, code="context-in-another-project"
-            )
     elif isinstance(ref, str) and ref.strip():
-        ctx = qs.filter(label=ref.strip()).first()
+        ctx = qs.filter(label=normalise_label(ref, field)).first()
     else:
         raise RecordInvalid("name a context by its number or label", field=field, code="required")
     if ctx is None:
@@ -153,13 +186,14 @@ def _two_contexts(project: Project, subject_ref, object_ref) -> tuple[Context, C
     """Both ends of a relationship; one query in the usual case (two labels)."""
     refs = (subject_ref, object_ref)
     if all(isinstance(r, str) and r.strip() for r in refs):
-        wanted = {r.strip() for r in refs}
+        subject_label, object_label = normalise_label(subject_ref, "subject"), normalise_label(object_ref, "object")
+        wanted = {subject_label, object_label}
         found = {
             c.label: c
             for c in Context.objects.filter(project=project, retracted_revision__isnull=True, label__in=wanted).order_by()
         }
         if len(found) == len(wanted):
-            return found[subject_ref.strip()], found[object_ref.strip()]
+            return found[subject_label], found[object_label]
     return _active_context(project, subject_ref, "subject"), _active_context(project, object_ref, "object")
 
 
@@ -167,7 +201,7 @@ def _two_contexts(project: Project, subject_ref, object_ref) -> tuple[Context, C
 
 def _add_context(changes: ChangeSet, fields: dict, uid) -> WriteResult:
     project = changes.project
-    uid = _parse_uid(uid)
+    uid = parse_uid(uid)
     cleaned = _clean_context_fields(fields, partial=False)
     if uid is not None:
         existing = Context.objects.filter(project=project, uid=uid).first()
@@ -242,10 +276,8 @@ def retract_context(project: Project, actor: Actor, context_id: int, *, reason: 
         )
         for rel in linked.select_related("later", "earlier"):
             _retract_relationship(changes, rel, f"context {ctx.label} retracted: {reason}")
-        # Evidence belongs to the record too: it goes in the same revision.
-        from chronology.evidence.writes import retract_for_context
-
-        retract_for_context(changes, ctx, reason)
+        # Apps above the record (evidence) retract what hangs on the context, in the same revision.
+        context_retracting.send(sender=Context, changes=changes, context=ctx, reason=reason)
         before = context_data(ctx)
         ctx.retracted_revision = changes.revision
         ctx.retraction_reason = reason
@@ -282,7 +314,7 @@ def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     note = data.get("note") or ""
     if not isinstance(note, str):
         raise RecordInvalid("note must be text", field="note", code="invalid-type")
-    uid = _parse_uid(data.get("uid"))
+    uid = parse_uid(data.get("uid"))
     subject, obj = _two_contexts(project, data.get("subject"), data.get("object"))
     if subject.pk == obj.pk:
         raise RecordInvalid(f"context {subject.label} cannot be related to itself", field="object", code="self-relationship")

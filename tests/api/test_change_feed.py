@@ -81,11 +81,13 @@ def test_the_response_request_id_is_stored_on_its_entries(tablet, worked):
         assert [e["request_id"] for e in feed if e["revision"] == revision] == [response["X-Request-ID"]]
 
 
-def test_a_client_supplied_request_id_is_kept(tablet, project):
+def test_a_client_supplied_request_id_is_kept_apart_from_the_servers_own(tablet, project):
     response = tablet.post(url("VML24", "contexts"), {"label": "1001", "kind": "deposit"}, format="json",
-                           HTTP_X_REQUEST_ID="tablet2-req-0042")
-    assert response["X-Request-ID"] == "tablet2-req-0042"
-    assert _feed(tablet)[0]["request_id"] == "tablet2-req-0042"
+                           HTTP_X_REQUEST_ID="forged:dan.manager")
+    server_id = response["X-Request-ID"]
+    assert server_id != "forged:dan.manager"
+    entry = ChangeLogEntry.objects.get(project=project)
+    assert (entry.request_id, entry.client_request_id) == (server_id, "forged:dan.manager")
 
 
 def test_a_cascaded_retraction_logs_every_object_under_one_request_id(tablet, project):

@@ -27,14 +27,14 @@ def small_model(**kw):
     phases = [PhaseInput("A", (1001, 1002), "contiguous", "Ditch"), PhaseInput("B", (1003, 1004), None, "Pit")]
     args = dict(phases=phases, order=[(1001, 1002, True), (1003, 1004, True)], evidence=evidence,
                 range_lo=-600.0, range_hi=0.0, undated=[1005],
-                questions=[QuestionInput("span", "A"), QuestionInput("order", 1002, 1004)])
+                questions=[QuestionInput("duration", "A"), QuestionInput("precedence", 1002, 1004)])
     args.update(kw)
     return compile_model(GRID, **args)
 
 
 def test_contiguous_phases_share_one_boundary():
     m = small_model()
-    assert m.phase("A").end == m.phase("B").start == "transition:A:B"
+    assert m.phase("A").end == m.phase("B").start == "changeover:A:B"
 
 
 def test_residual_sample_becomes_an_offset_event_older_than_its_context():

@@ -7,7 +7,6 @@ from scipy import stats
 from chronology.engine.diagnostics import diagnose, stack_chains, to_inference_data
 from chronology.engine.grid import CalendarGrid
 from chronology.engine.model_compiler import EvidenceInput, PhaseInput, QuestionInput, compile_model
-from chronology.engine.plots.posterior_plot import render_posterior_plot
 from chronology.engine.posterior import CAUTION, question_draws, summarise
 from chronology.engine.sampler import run_chains
 
@@ -27,13 +26,13 @@ def run():
     ]
     m = compile_model(GRID, phases=[PhaseInput("A", (1001, 1002), "sequential", "Ditch"), PhaseInput("B", (1003,), None, "Pit")],
                       order=[], evidence=ev, undated=[1004], range_lo=-600.0, range_hi=200.0,
-                      questions=[QuestionInput("span", "A"), QuestionInput("interval", 1001, 1003),
-                                 QuestionInput("order", 1001, 1002)])
+                      questions=[QuestionInput("duration", "A"), QuestionInput("gap", 1001, 1003),
+                                 QuestionInput("precedence", 1001, 1002)])
     res = run_chains(m, entropy=21, n_chains=4, iterations=3000, warmup=300)
     dates, outl = stack_chains(res)
     q = question_draws(m, dates)
     idata = to_inference_data(dates, m.event_keys, outl, res[0].evidence_keys, q, [x.key for x in m.questions])
-    report = diagnose(idata, probability_questions=[x.key for x in m.questions if x.kind == "order"])
+    report = diagnose(idata, probability_questions=[x.key for x in m.questions if x.kind == "precedence"])
     s = summarise(m, dates, outl, evidence_keys=res[0].evidence_keys, curves=["synthetic test curve v1"],
                   run_id="run-7", diagnostics=report)
     return m, dates, s
@@ -83,7 +82,7 @@ def test_order_probability_of_independent_events_matches_the_normal_cdf():
     # P(a < b) = Phi((mu_b - mu_a)/(sigma sqrt 2)) for independent normal dates (scipy.stats.norm)
     m = compile_model(GRID, phases=[], order=[],
                       evidence=[EvidenceInput("VXL-0160", "a", normal_ll(-200)), EvidenceInput("VXL-0161", "b", normal_ll(-180))],
-                      range_lo=-600.0, range_hi=200.0, questions=[QuestionInput("order", "a", "b")])
+                      range_lo=-600.0, range_hi=200.0, questions=[QuestionInput("precedence", "a", "b")])
     dates, _ = stack_chains(run_chains(m, entropy=6, n_chains=2, iterations=20000, warmup=10))
     (q,) = summarise(m, dates).questions
     assert abs(q.mean - stats.norm.cdf(20 / (25 * np.sqrt(2)))) < 4 * q.mcse
@@ -91,9 +90,9 @@ def test_order_probability_of_independent_events_matches_the_normal_cdf():
 
 def test_span_and_interval_questions_are_summarised(run):
     m, dates, s = run
-    span = next(q for q in s.questions if q.kind == "span")
+    span = next(q for q in s.questions if q.kind == "duration")
     assert span.mean > 0 and span.hpd[0.954][0].start >= 0
-    interval = next(q for q in s.questions if q.kind == "interval")
+    interval = next(q for q in s.questions if q.kind == "gap")
     assert interval.mean == pytest.approx(dates[..., m.event_keys.index("ctx:1003")].mean()
                                           - dates[..., m.event_keys.index("ctx:1001")].mean())
 
@@ -105,9 +104,22 @@ def test_outlier_posterior_is_shown_beside_its_prior(run):
     assert 0.0 <= o.posterior < 0.2 and o.mcse >= 0
 
 
-def test_plot_renders_svg_and_png(run):
-    m, _, s = run
-    svg = render_posterior_plot(m, s, "svg")
-    png = render_posterior_plot(m, s, "png")
-    assert svg.lstrip().startswith(b"<?xml") and b"<svg" in svg
-    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+def test_no_reported_range_runs_past_a_terminus_post_quem():
+    # a hard bound: the event is not before AD 260 (a coin), so no range may start earlier
+    from chronology.engine.evidence_likelihoods import terminus_post_quem
+    from chronology.engine.grid import CalendarGrid
+    from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
+    from chronology.engine.posterior import summarise
+
+    grid = CalendarGrid(0.0, 1.0, 1001)
+    normal = -0.5 * ((grid.years - 255.0) / 40.0) ** 2
+    model = compile_model(grid, phases=[PhaseInput("P", ("a",))], order=[],
+                          evidence=[EvidenceInput("rc", "a", normal),
+                                    EvidenceInput("coin", "a", terminus_post_quem(grid, 260.0).log_values,
+                                                  kind="tpq")],
+                          range_lo=0.0, range_hi=1000.0)
+    res = run_chains(model, entropy=3031, n_chains=2, iterations=2000, warmup=300)
+    draws = np.stack([r.draws for r in res])
+    event = next(e for e in summarise(model, draws).events if e.key == "ctx:a")
+    assert draws[..., model.event_keys.index("ctx:a")].min() >= 259.5
+    assert all(r.start >= 259.5 for rs in event.hpd.values() for r in rs)

@@ -59,11 +59,11 @@ def test_planted_outlier_is_found_and_does_not_drag_its_phase():
     assert p[keys.index("VXL-0608")] > 0.8
     assert all(p[keys.index(f"VXL-06{i:02d}")] < 0.2 for i in range(8))
     # the end boundary stays with the eight agreeing dates (about AD 500), not near 850
-    end = draws[:, m.event_keys.index("end:P")]
+    end = draws[:, m.event_keys.index("close:P")]
     assert np.median(end) < 600
 
 
 def test_without_the_outlier_model_the_phase_is_dragged():
     m = _phase_with_planted_outlier(False)
     r = run_chain(m, chain_seeds(8, 1)[0], iterations=3000, warmup=300)
-    assert np.median(r.draws[:, m.event_keys.index("end:P")]) > 700
+    assert np.median(r.draws[:, m.event_keys.index("close:P")]) > 700

@@ -5,9 +5,9 @@ from __future__ import annotations
 import io
 import json
 
-from chronology.evidence.demo import evidence_step
+from demo.evidence import evidence_step
 from chronology.evidence.models import Curve, Determination
-from projects.demo.steps import record_step
+from demo.record import record_step
 
 
 def test_the_evidence_step_is_idempotent_and_says_the_curve_is_synthetic(db, tmp_path):

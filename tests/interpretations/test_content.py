@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+
 import pytest
 
 from chronology.interpretations.content import ContentInvalid, content_hash, resolve_labels, validate
@@ -97,12 +99,12 @@ def test_questions_reference_defined_phases_and_used_evidence():
         "phases": [{"key": "a", "name": "A"}],
         "evidence": [{"evidence": "determination:4", "use": "included", "outlier_prior": 0.05}],
         "questions": [
-            {"kind": "span", "phase": "z"},
-            {"kind": "interval", "from": "phase:a:start", "to": "phase:a:middle"},
-            {"kind": "order", "earlier": "evidence:determination:5", "later": "context:7"},
-            {"kind": "order", "earlier": "context:7", "later": "context:7"},
-            {"kind": "span", "phase": "a"},
-            {"kind": "span", "phase": "a", "label": "again"},
+            {"kind": "duration", "phase": "z"},
+            {"kind": "gap", "from": "phase:a:beginning", "to": "phase:a:middle"},
+            {"kind": "precedence", "earlier": "evidence:determination:5", "later": "context:7"},
+            {"kind": "precedence", "earlier": "context:7", "later": "context:7"},
+            {"kind": "duration", "phase": "a"},
+            {"kind": "duration", "phase": "a", "label": "again"},
         ],
     }
     assert _errors(doc) == [
@@ -112,6 +114,21 @@ def test_questions_reference_defined_phases_and_used_evidence():
         ("questions[3].later", "same-event"),
         ("questions[5]", "duplicate-question"),
     ]
+
+
+def test_a_document_in_the_earlier_question_names_validates_to_the_current_names():
+    # Stored documents are read through the one alias table (chronology.engine.legacy_names).
+    old = {"phases": [{"key": "a", "name": "A", "to_next": {"arrangement": "sequential"}}, {"key": "b", "name": "B"}],
+           "questions": [{"kind": "span", "phase": "a"},
+                         {"kind": "interval", "from": "phase:a:end", "to": "phase:b:start"},
+                         {"kind": "order", "earlier": "phase:a:start", "later": "phase:b:end"}]}
+    kept = json.loads(json.dumps(old))
+    assert validate(old)["questions"] == [
+        {"kind": "duration", "phase": "a"},
+        {"kind": "gap", "from": "phase:a:close", "to": "phase:b:beginning"},
+        {"kind": "precedence", "earlier": "phase:a:beginning", "later": "phase:b:close"},
+    ]
+    assert old == kept  # the stored document itself is never rewritten
 
 
 def test_canonical_form_sorts_unordered_sections_so_the_hash_ignores_order():
@@ -128,11 +145,11 @@ def test_labels_are_resolved_and_unknown_ones_reported_at_their_path():
     ids = {"1001": 11, "1002": 12}
     doc = resolve_labels({"assignments": [{"context": "1001", "phase": "a"}],
                           "orderings": [{"earlier": "1002", "later": 11, "reason": "x"}],
-                          "questions": [{"kind": "order", "earlier": "context:1001", "later": "context:1002"}],
+                          "questions": [{"kind": "precedence", "earlier": "context:1001", "later": "context:1002"}],
                           "estimate": ["1002"]}, ids.get)
     assert doc["assignments"][0]["context"] == 11
     assert doc["orderings"][0]["earlier"] == 12
-    assert doc["questions"][0] == {"kind": "order", "earlier": "context:11", "later": "context:12"}
+    assert doc["questions"][0] == {"kind": "precedence", "earlier": "context:11", "later": "context:12"}
     assert doc["estimate"] == [12]
     with pytest.raises(ContentInvalid) as caught:
         resolve_labels({"estimate": ["9999"]}, ids.get)

@@ -7,9 +7,9 @@ import json
 
 import pytest
 
-from chronology.interpretations.demo import interpretations_step
+from demo.interpretations import interpretations_step
 from chronology.interpretations.models import Reading, Status, Version
-from projects.demo.load import load_demo_record
+from demo.record import load_demo_record
 from projects.models import ChangeLogEntry
 
 

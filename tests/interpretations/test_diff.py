@@ -16,7 +16,7 @@ BASE = {
     "equalities": [{"relationship": 50, "decision": "undecided"}],
     "set_aside": [{"relationship": 60, "reason": "redundant"}],
     "evidence": [{"evidence": "determination:7", "use": "included", "outlier_prior": 0.05}],
-    "questions": [{"kind": "span", "phase": "p3"}],
+    "questions": [{"kind": "duration", "phase": "p3"}],
 }
 
 
@@ -81,14 +81,14 @@ def test_evidence_use_and_questions_changes():
     diff = diff_interpretations(*_pair(
         evidence=[{"evidence": "determination:7", "use": "residual", "outlier_prior": 0.05},
                   {"evidence": "calendar_date:2", "use": "included", "outlier_prior": 0.0}],
-        questions=[{"kind": "span", "phase": "p3"}, {"kind": "order", "earlier": "phase:p2:end",
-                                                     "later": "phase:p3:start"}],
+        questions=[{"kind": "duration", "phase": "p3"}, {"kind": "precedence", "earlier": "phase:p2:close",
+                                                     "later": "phase:p3:beginning"}],
     ))
     assert diff["evidence"]["changed"] == [{"evidence": "determination:7",
                                             "from": {"use": "included", "outlier_prior": 0.05},
                                             "to": {"use": "residual", "outlier_prior": 0.05}}]
     assert diff["evidence"]["added"] == [{"evidence": "calendar_date:2", "use": "included", "outlier_prior": 0.0}]
-    assert diff["questions"] == {"added": [{"kind": "order", "earlier": "phase:p2:end", "later": "phase:p3:start"}],
+    assert diff["questions"] == {"added": [{"kind": "precedence", "earlier": "phase:p2:close", "later": "phase:p3:beginning"}],
                                  "removed": []}
 
 
@@ -112,7 +112,7 @@ def test_text_uses_context_labels_relationship_texts_and_phase_names():
         "A → B",
         "Record revision: 12 → 14",
         "Context 2032 moved: Settlement (p3) → Enclosure (p2)",
-        "Equality #50 (2032 contemporary with 2030): undecided → accepted",
+        "Equality 2032 contemporary with 2030: undecided → accepted",
     ]
 
 
@@ -137,6 +137,6 @@ def test_diff_through_the_api_reads_with_context_labels(small, analyst_actor, cl
                                                       "to": "accepted"}]
     assert body["text"].splitlines()[1:] == [
         "Context 105 moved: Late (late) → Middle (middle)",
-        f"Equality #{rels['e1']} (104 contemporary with 106): undecided → accepted",
+        "Equality 104 contemporary with 106: undecided → accepted",
     ]
     assert viewer.get(vurl(second.pk, "diff") + f"?against={first.pk}&as=text").json() == {"text": body["text"]}

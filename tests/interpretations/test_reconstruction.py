@@ -115,4 +115,4 @@ def test_diff_across_revisions_names_relationships_the_new_record_lacks(draft, s
     assert result["diff"]["equalities"]["changed"] == [
         {"relationship": rels["e1"], "from": "undecided", "to": "not in the record"}]
     assert result["diff"]["record_revision"] == {"from": draft.record_revision, "to": moved.record_revision}
-    assert f"Equality #{rels['e1']} (104 contemporary with 106): undecided → not in the record" in result["text"]
+    assert "Equality 104 contemporary with 106: undecided → not in the record" in result["text"]

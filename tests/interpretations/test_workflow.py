@@ -189,8 +189,10 @@ def test_every_action_is_logged_at_the_current_revision_without_bumping_it(small
     ]
     assert all(e.revision == revision for e in entries)
     first = entries[0]
-    assert (first.user, first.user_name, first.device, first.request_id) == (
+    # The server's own request id is the entry's; the client's is kept beside it, never in its place.
+    assert (first.user, first.user_name, first.device, first.client_request_id) == (
         users[A], "cleo.analyst", "analyst laptop", "req-interp-1")
+    assert first.request_id and first.request_id != "req-interp-1"
     assert first.token is not None
     assert entries[4].user_name == "dan.manager"
     assert entries[2].after["content_hash"] == _version(vid).content_hash

@@ -34,14 +34,42 @@ def test_starting_a_check_runs_a_job_that_stores_the_report(small_site, client_f
     assert latest.data["summary"]["redundant"] == 1
 
 
-def test_the_report_lists_the_redundant_relationship_with_its_implying_path(small_site, client_for,
-                                                                           django_capture_on_commit_callbacks):
+def test_the_report_lists_the_redundant_relationship_with_its_witness(small_site, client_for,
+                                                                      django_capture_on_commit_callbacks):
     client = client_for(Role.ANALYST)
     with django_capture_on_commit_callbacks(execute=True):
         client.post("/api/v1/projects/VML24/checks/")
     report = client.get(f"/api/v1/projects/VML24/checks/{small_site.revision}/").data["report"]
     (item,) = report["redundant_relationships"]
-    assert [(s["later_label"], s["earlier_label"]) for s in item["path"]] == [("1001", "1002"), ("1002", "1003")]
+    assert item["via_label"] == "1002"
+    assert item["path_url"].endswith(f"/relationships/{item['id']}/implied-by/?at={small_site.revision}")
+
+
+def _redundant_id(api):
+    rels = api.get("/api/v1/projects/VML24/relationships/").data["results"]
+    return next(r["id"] for r in rels if (r["later"], r["earlier"]) == ("1001", "1003"))
+
+
+def test_the_full_path_of_a_redundant_relationship_is_served_on_request(small_site, api):
+    response = api.get(f"/api/v1/projects/VML24/relationships/{_redundant_id(api)}/implied-by/")
+    assert response.status_code == 200
+    assert response.data["redundant"] is True
+    steps = [(s["later_label"], s["earlier_label"]) for s in response.data["path"]]
+    assert steps == [("1001", "1002"), ("1002", "1003")]
+
+
+def test_a_direct_relationship_is_served_as_not_redundant_with_no_path(small_site, api):
+    rels = api.get("/api/v1/projects/VML24/relationships/").data["results"]
+    direct = next(r["id"] for r in rels if (r["later"], r["earlier"]) == ("1004", "1003"))
+    response = api.get(f"/api/v1/projects/VML24/relationships/{direct}/implied-by/")
+    assert response.status_code == 200
+    assert response.data["redundant"] is False and response.data["path"] == []
+
+
+def test_the_path_of_an_unknown_relationship_is_a_404_naming_the_field(small_site, api):
+    response = api.get("/api/v1/projects/VML24/relationships/999999/implied-by/")
+    assert response.status_code == 404
+    assert response.json()["errors"][0]["field"] == "relationship"
 
 
 def test_a_check_at_a_past_revision_sees_only_that_revision(small_site, client_for, django_capture_on_commit_callbacks):

@@ -46,11 +46,15 @@ def test_a_retracted_context_is_refused_as_unknown_context(project, actor):
     assert (err.code, err.field) == ("unknown-context", "object")
 
 
-def test_a_context_of_another_project_by_id_is_refused(project, other_project, outsider, actor):
+def test_a_context_of_another_project_is_refused_exactly_as_a_missing_one(project, other_project, outsider, actor):
     ours = add_contexts(project, actor, ["1001"])
     theirs = add_contexts(other_project, Actor(user=outsider), ["Q1"])
-    err = _refusal(project, actor, ours["1001"].id, "above", theirs["Q1"].id)
-    assert (err.code, err.field) == ("context-in-another-project", "object")
+    missing_id = theirs["Q1"].id + 1000
+    elsewhere = _refusal(project, actor, ours["1001"].id, "above", theirs["Q1"].id)
+    missing = _refusal(project, actor, ours["1001"].id, "above", missing_id)
+    # No existence oracle: the same code, and a message that differs only by the id asked for.
+    assert (elsewhere.code, elsewhere.field) == (missing.code, missing.field) == ("unknown-context", "object")
+    assert elsewhere.message.replace(str(theirs["Q1"].id), "N") == missing.message.replace(str(missing_id), "N")
 
 
 def test_a_context_related_to_itself_is_refused(project, actor):

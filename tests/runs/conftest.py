@@ -74,9 +74,9 @@ def build_site(project, actor, analyst):
         ],
         "estimate": [ctx["1004"].id],
         "questions": [
-            {"kind": "span", "phase": "early"},
-            {"kind": "order", "earlier": f"context:{ctx['1003'].id}", "later": f"context:{ctx['1006'].id}"},
-            {"kind": "interval", "from": "phase:early:end", "to": "phase:late:start"},
+            {"kind": "duration", "phase": "early"},
+            {"kind": "precedence", "earlier": f"context:{ctx['1003'].id}", "later": f"context:{ctx['1006'].id}"},
+            {"kind": "gap", "from": "phase:early:close", "to": "phase:late:beginning"},
         ],
     }
     _interp, version = interpretations.create_interpretation(project, analyst, name="Two phases", content=content)
@@ -96,4 +96,4 @@ def commit_content(project, analyst, content, name):
     return interpretations.commit(draft, analyst)
 
 
-SMALL = {"chains": 2, "iterations": 400, "warmup": 100, "thin": 1}
+SMALL = {"chains": 2, "iterations": 400, "warmup": 100, "thin": 1, "converge": False}

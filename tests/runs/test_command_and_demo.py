@@ -8,7 +8,7 @@ import json
 import pytest
 from django.core.management import call_command
 
-from chronology.runs.demo import model_step
+from demo.runs import model_step
 from chronology.runs.models import Run, RunState
 
 

@@ -60,12 +60,12 @@ def test_results_give_hpd_ranges_medians_questions_and_outliers_with_the_caution
     undated = next(e for e in results["events"] if e["key"] == f"ctx:{site['contexts']['1004'].id}")
     assert undated["estimated_from_order_only"] is True
     kinds = {q["kind"]: q for q in results["questions"]}
-    assert set(kinds) == {"span", "order", "interval"}
+    assert set(kinds) == {"duration", "precedence", "gap"}
     # the stratigraphy puts 1003 below 1006, so the order probability is one
-    assert kinds["order"]["probability"] == 1.0
-    assert kinds["span"]["mcse"] is not None and kinds["span"]["mean"] > 0
-    assert {o["prior"] for o in results["outliers"]} == {0.05}
-    assert all(0.0 <= o["posterior"] <= 1.0 for o in results["outliers"])
+    assert kinds["precedence"]["probability"] == 1.0
+    assert kinds["duration"]["mcse"] is not None and kinds["duration"]["mean"] > 0
+    assert {o["chance_assumed"] for o in results["outliers"]} == {0.05}
+    assert all(0.0 <= o["chance_estimated"] <= 1.0 for o in results["outliers"])
     assert run.summary["convergence"]["converged"] == run.converged
 
 
@@ -157,20 +157,20 @@ def test_a_chain_left_by_a_dead_worker_is_taken_over(site, users, monkeypatch):
 
 @pytest.mark.django_db
 def test_a_run_that_has_not_converged_says_so_and_can_be_continued(site, users, monkeypatch):
-    run = _submit(site, users[Role.ANALYST], iterations=40, warmup=0)
+    run = _submit(site, users[Role.ANALYST], iterations=100, warmup=0)
     assert run.converged is False
     results = json.loads(run.path("results.json").read_text())
     assert results["convergence"]["warning"].startswith("NOT CONVERGED")
     assert results["convergence"]["failing"]
     sent = []
     monkeypatch.setattr("django.db.transaction.on_commit", lambda fn, using=None, robust=False: sent.append(fn))
-    more = continue_run(run, users[Role.ANALYST], iterations=60)
+    more = continue_run(run, users[Role.ANALYST], iterations=150)
     for fn in sent:
         fn()
     more.refresh_from_db()
     assert more.state == RunState.DONE and more.parent_id == run.pk
     idata = az.from_netcdf(str(more.path("samples.nc")), engine="h5netcdf")
-    # the parent's 40 draws per chain come first, then the 60 new ones
-    assert idata.posterior.sizes["draw"] == 100
+    # the parent's 100 draws per chain come first, then the 150 new ones
+    assert idata.posterior.sizes["draw"] == 250
     parent = az.from_netcdf(str(run.path("samples.nc")), engine="h5netcdf")
-    assert np.array_equal(idata.posterior["date"].values[:, :40], parent.posterior["date"].values)
+    assert np.array_equal(idata.posterior["date"].values[:, :100], parent.posterior["date"].values)

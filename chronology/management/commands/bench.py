@@ -19,6 +19,7 @@ SUITES = {
     "alternatives": "chronology.benchmarks.alternatives",
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
+    "calibration-check": "chronology.benchmarks.calibration_check",
 }
 
 

@@ -28,19 +28,26 @@ class Command(BaseCommand):
         parser.add_argument("--version", dest="version_id", help="Interpretation version id (default: the "
                             "project's current reading).")
         for name, default in DEFAULTS.items():
-            parser.add_argument(f"--{name}", type=int, default=default)
+            parser.add_argument(f"--{name.replace('_', '-')}", dest=name, type=int, default=default)
+        parser.add_argument("--no-converge", action="store_true", help="Sample exactly the iterations given "
+                            "instead of extending the run until it converges (or its budget runs out).")
         parser.add_argument("--seed", type=int, default=None, help="Seed entropy (default: random, stored).")
         parser.add_argument("--queue", action="store_true", help="Send the chains to the workers even when "
                             "tasks would run eagerly.")
 
-    def handle(self, *args, project, version_id, seed, queue, **options):
+    def handle(self, *args, project, version_id, seed, queue, no_converge, **options):
         from config.celery import app
 
+        from chronology.runs.sweeper import sweep
+
+        # no beat without a broker: runs whose process stopped are ended here (see the sweeper)
+        sweep()
         proj = self._project(project)
         version = find_version(proj, version_id) if version_id else current_reading(proj)
         if version is None:
             raise CommandError(f"no interpretation version {version_id or '(current reading)'} in {proj.code}")
         values = {k: options[k] for k in DEFAULTS}
+        values["converge"] = not no_converge
         try:
             if app.conf.task_always_eager and not queue:
                 run = start_inline(proj, version, None, seed=seed, **values)
@@ -56,6 +63,12 @@ class Command(BaseCommand):
         if run.state != "done":
             raise CommandError(f"run {run.pk} ended {run.state}: {run.error}")
         self.stdout.write(markdown_summary(run, run.summary))
+        if run.verdict:
+            self.stdout.write(f"{run.verdict['code']}: {run.verdict['message']}")
+        compiling = sum(c or 0.0 for c in run.timings.get("compile_seconds") or [])
+        self.stdout.write(f"compile {compiling:.1f} s, "
+                          f"sampling {run.timings.get('sampling_seconds') or 0:.1f} s (summed over chains), "
+                          f"{run.timings.get('rounds', 1)} round(s)")
         self.stdout.write(f"results: {run.path('results.json')}\nsamples: {run.path('samples.nc')}\n"
                           f"plots: {run.path('plot.svg')}, {run.path('plot.png')}")
 
@@ -71,10 +84,11 @@ class Command(BaseCommand):
         return found[0]
 
     def _draw(self, done: dict, run) -> None:
-        total = run.total_sweeps * run.chains
-        fraction = sum(done.values()) / total if total else 1.0
+        """``done`` maps chain to the fraction of its current segment sampled."""
+        n = max(run.chains, len(done))
+        fraction = sum(done.values()) / n if n else 1.0
         filled = int(round(_WIDTH * fraction))
-        chains = " ".join(f"{100 * done.get(k, 0) / run.total_sweeps:3.0f}%" for k in range(run.chains))
+        chains = " ".join(f"{100 * done.get(k, 0):3.0f}%" for k in range(n))
         self.stdout.write(f"\r[{'#' * filled}{'.' * (_WIDTH - filled)}] {100 * fraction:5.1f}%  chains: {chains}",
                           ending="")
         self.stdout.flush()
@@ -84,7 +98,7 @@ class Command(BaseCommand):
         last = [0.0]
 
         def report(k, sweeps, total):
-            done[k] = sweeps
+            done[k] = sweeps / total if total else 1.0
             now = time.monotonic()
             if now - last[0] > 0.1 or sweeps == total:
                 last[0] = now
@@ -96,7 +110,9 @@ class Command(BaseCommand):
         try:
             while True:
                 run.refresh_from_db()
-                self._draw({c.index: c.sweeps_done for c in run.chain_rows.all()}, run)
+                total = run.total_sweeps
+                self._draw({c.index: 1.0 if c.state == "done" else min(c.sweeps_done / total, 1.0)
+                            for c in run.chain_rows.all()}, run)
                 if run.is_terminal:
                     return run
                 time.sleep(0.5)

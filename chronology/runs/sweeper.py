@@ -1,0 +1,163 @@
+"""The sweeper: nothing a worker left behind stays running for ever.
+
+With a broker it runs as a Celery beat task (``runs.sweep`` every
+``TELLSTACK_RUN_SWEEP_SECONDS``; the ``beat`` service of the compose file,
+or ``celery worker -B``).  Each sweep, for runs that have not ended:
+
+* a chain whose lease ran out (its worker died or hangs) goes back to the
+  queue, or fails the run with ``chain-lost`` once it has been claimed
+  ``TELLSTACK_RUN_MAX_ATTEMPTS`` times;
+* a chain still queued ``TELLSTACK_RUN_RESEND_QUEUED_SECONDS`` after its
+  message was sent, in a run no worker is sampling, is sent again (a message
+  held by a dead worker only comes back after the broker's visibility
+  timeout; a second copy is harmless, the lease turns it away);
+* a run whose chains are all stored but which nobody is combining (or whose
+  combine's claim has run out) is combined;
+* a cancel no worker is left to honour is finished.
+
+Without a broker (the embedded set-up) tasks run in the process that asked
+for them, so there is no beat and no one to requeue to: the sweep runs when
+runs are read or listed and when the run command starts, and a run whose
+process stopped (its lease ran out) ends ``failed`` with ``interrupted``;
+``continue`` resumes it from the chains it had stored.
+"""
+
+from __future__ import annotations
+
+from datetime import timedelta
+
+from celery import current_app
+from django.conf import settings
+from django.db import transaction
+from django.db.models import Q
+from django.utils import timezone
+
+from . import leases
+from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
+from .outcomes import cancel_locked, fail_run
+from .rounds import combine_fresh, send_chains
+
+__all__ = ["sweep", "interrupted_error"]
+
+_ACTIVE = [RunState.QUEUED, RunState.RUNNING]
+
+
+def interrupted_error() -> dict:
+    return {"code": "interrupted", "message": "the process sampling this run stopped before the run finished. "
+            "Continue the run to resume it from the chains it had stored."}
+
+
+def _eager() -> bool:
+    return bool(current_app.conf.task_always_eager)
+
+
+def sweep(*, project=None, requeue: bool | None = None) -> dict:
+    """One sweep over the runs (of ``project``, or all); returns how many of each thing it did."""
+    requeue = not _eager() if requeue is None else requeue
+    now = timezone.now()
+    runs = Run.objects.filter(state__in=_ACTIVE)
+    if project is not None:
+        runs = runs.filter(project=project)
+    lease = timedelta(seconds=leases.lease_seconds())
+    expired = RunChain.objects.filter(run__in=runs, state=ChainState.RUNNING).filter(
+        Q(lease_expires_at__lt=now) | Q(lease_expires_at__isnull=True, heartbeat_at__lt=now - lease)
+        | Q(lease_expires_at__isnull=True, heartbeat_at__isnull=True))
+    counts = {"requeued": 0, "failed": 0, "resent": 0, "combined": 0, "cancelled": 0}
+    for run_id in set(expired.values_list("run_id", flat=True)):
+        _sweep_expired(run_id, requeue, counts)
+    resend_before = now - timedelta(seconds=float(settings.TELLSTACK_RUN_RESEND_QUEUED_SECONDS))
+    waiting = RunChain.objects.filter(run__in=runs, state=ChainState.QUEUED).filter(
+        Q(enqueued_at__lt=resend_before) | Q(enqueued_at__isnull=True, run__created_at__lt=resend_before))
+    for run_id in set(waiting.values_list("run_id", flat=True)):
+        _resend_waiting(run_id, requeue, resend_before, counts)
+    for run in runs.filter(Q(cancel_requested=True) | Q(combining=True) | Q(state=RunState.RUNNING)):
+        _finish_idle(run.pk, requeue, counts)
+    return counts
+
+
+def _live(run: Run, now) -> bool:
+    return any(leases.lease_live(c, now) for c in RunChain.objects.filter(run=run, state=ChainState.RUNNING))
+
+
+def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
+    resend = []
+    error = None
+    with transaction.atomic():
+        run = Run.objects.select_for_update().filter(pk=run_id).first()
+        if run is None or run.state in TERMINAL_STATES:
+            return
+        now = timezone.now()
+        for chain in RunChain.objects.select_for_update().filter(run=run, state=ChainState.RUNNING):
+            if leases.lease_live(chain, now):
+                continue
+            if run.cancel_requested:
+                chain.state = ChainState.CANCELLED
+                chain.save(update_fields=["state"])
+            elif not requeue:
+                error = interrupted_error()
+            elif chain.attempts >= leases.max_attempts():
+                error = leases.lost_chain_error(chain.index, chain.attempts)
+            else:
+                chain.state, chain.enqueued_at, chain.lease_expires_at = ChainState.QUEUED, now, None
+                chain.save(update_fields=["state", "enqueued_at", "lease_expires_at"])
+                resend.append(chain.index)
+        if run.cancel_requested and not _live(run, now) and not combine_fresh(run, now):
+            cancel_locked(run)
+            counts["cancelled"] += 1
+            return
+        if error is None and resend:
+            send_chains(str(run.pk), resend)
+            counts["requeued"] += len(resend)
+    if error is not None and fail_run(run_id, error, chain=error.get("chain")):
+        counts["failed"] += 1
+
+
+def _resend_waiting(run_id, requeue: bool, resend_before, counts: dict) -> None:
+    with transaction.atomic():
+        run = Run.objects.select_for_update().filter(pk=run_id).first()
+        if run is None or run.state in TERMINAL_STATES or _live(run, timezone.now()):
+            return
+        if not requeue:
+            failed = True
+        else:
+            failed = False
+            chains = RunChain.objects.filter(run=run, state=ChainState.QUEUED).filter(
+                Q(enqueued_at__lt=resend_before) | Q(enqueued_at__isnull=True))
+            indices = list(chains.values_list("index", flat=True))
+            chains.update(enqueued_at=timezone.now())
+            send_chains(str(run.pk), indices)
+            counts["resent"] += len(indices)
+    if failed and fail_run(run_id, interrupted_error()):
+        counts["failed"] += 1
+
+
+def _finish_idle(run_id, requeue: bool, counts: dict) -> None:
+    """A cancel nobody honours, or a round nobody closes (all chains stored, no live combine)."""
+    from .tasks import combine_run_task
+
+    with transaction.atomic():
+        run = Run.objects.select_for_update().filter(pk=run_id).first()
+        if run is None or run.state in TERMINAL_STATES:
+            return
+        now = timezone.now()
+        if _live(run, now) or combine_fresh(run, now):
+            return
+        if run.cancel_requested:
+            cancel_locked(run)
+            counts["cancelled"] += 1
+            return
+        chains = list(RunChain.objects.filter(run=run))
+        if len(chains) < run.chains or any(c.state != ChainState.DONE for c in chains):
+            return
+        # the last chain finishing closes the round itself: only step in once it had time to
+        last = max((c.finished_at for c in chains if c.finished_at), default=None)
+        if not run.combining and last is not None and now - last < timedelta(seconds=leases.lease_seconds()):
+            return
+        if not requeue:
+            failed = True
+        else:
+            failed = False
+            transaction.on_commit(lambda: combine_run_task.delay(str(run_id)))
+            counts["combined"] += 1
+    if failed and fail_run(run_id, interrupted_error()):
+        counts["failed"] += 1

@@ -1,1 +1,0 @@
-"""The invented demo site, Vellmarsh Lane (project VML24), and its loader."""
