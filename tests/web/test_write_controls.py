@@ -49,7 +49,7 @@ def _post(site, name):
         "approve": (reverse("web:version-action", args=_args(site, first.pk, "approve")), {"reason": "fits"}),
         "reject": (reverse("web:version-action", args=_args(site, first.pk, "reject")), {"reason": "no"}),
         "run": (reverse("web:run-submit", args=_args(site)),
-                {"version": first.pk, "chains": 1, "iterations": 10, "warmup": 0}),
+                {"version": first.pk, "chains": 1, "iterations": 100, "warmup": 0}),
         "alternatives": (reverse("web:alternatives-start", args=_args(site, first.pk)), {}),
     }[name]
 
@@ -119,9 +119,10 @@ def test_a_rejection_with_a_reason_is_logged_with_it(site, web_client):
     assert ChangeLogEntry.objects.get(action="interpretation.version.rejected").message == "phase 2 is missing"
 
 
-def test_an_analyst_submits_a_run_and_is_sent_to_its_page(site, web_client):
+def test_an_analyst_submits_a_run_and_is_sent_to_its_page(site, web_client, django_capture_on_commit_callbacks):
     url, data = _post(site, "run")
-    response = web_client(A).post(url, data)
+    with django_capture_on_commit_callbacks(execute=True):
+        response = web_client(A).post(url, data)
     run = Run.objects.exclude(pk=site["run"].pk).get()
     assert response.status_code == 302 and str(run.pk) in response["Location"]
     assert run.state == "done"  # tasks run in-process in tests
@@ -133,7 +134,7 @@ def test_a_run_with_settings_out_of_range_is_refused_with_the_reason(site, web_c
     assert "Refused" in response.content.decode() and Run.objects.count() == 1
 
 
-def test_a_recorder_starts_a_check_that_is_stored(site, web_client):
+def test_a_recorder_starts_a_check_that_is_stored(site, web_client, django_capture_on_commit_callbacks):
     from chronology.models import CheckReport
 
     from projects.record import writes
@@ -141,5 +142,6 @@ def test_a_recorder_starts_a_check_that_is_stored(site, web_client):
 
     writes.add_context(site["project"], Actor(user=site["first"].author, device="t"), label="1008", kind="deposit")
     site["project"].refresh_from_db()
-    web_client(R).post(reverse("web:check-start", args=_args(site)))
+    with django_capture_on_commit_callbacks(execute=True):
+        web_client(R).post(reverse("web:check-start", args=_args(site)))
     assert CheckReport.objects.filter(project=site["project"], revision=site["project"].revision).exists()

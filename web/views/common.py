@@ -28,7 +28,11 @@ def project_page(view):
     def wrapper(request, org, code, *args, **kwargs):
         project = project_for(request, org, code)
         request.project = project
-        return view(request, project, *args, **kwargs)
+        try:
+            return view(request, project, *args, **kwargs)
+        except RecordError as exc:
+            # A bad ``?at=`` or id in a read: the API's status and reason, as a page.
+            return render(request, "400.html", {"error": exc}, status=exc.status)
 
     return wrapper
 

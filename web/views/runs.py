@@ -74,6 +74,8 @@ def run_submit(request, project):
         return HttpResponseRedirect(back)
     try:
         values = {name: _int(request, name, DEFAULTS[name]) for name in ("chains", "iterations", "warmup", "thin")}
+        # An unticked box is absent from the form: no extension rounds.
+        values["converge"] = request.POST.get("converge") == "on"
         run = submit_run(project, version, request.user, seed=_int(request, "seed"), **values)
     except ModelRefused as exc:
         messages.error(request, f"Refused ({exc.code}): {exc.message}")
