@@ -94,3 +94,9 @@ def page_urls(site) -> dict[str, str]:
 
 
 GLOBAL_PAGES = ["web:home", "web:curves", "web:tokens", "web:password-change"]
+
+
+@pytest.fixture(scope="session")
+def live_server(django_db_setup, live_server):
+    """pytest-django's live server, set up after the test database so it stops before that is dropped."""
+    return live_server
