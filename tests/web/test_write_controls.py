@@ -128,6 +128,17 @@ def test_an_analyst_submits_a_run_and_is_sent_to_its_page(site, web_client, djan
     assert run.state == "done"  # tasks run in-process in tests
 
 
+def test_a_finished_run_shows_its_results_table(site, web_client, django_capture_on_commit_callbacks):
+    url, data = _post(site, "run")
+    with django_capture_on_commit_callbacks(execute=True):
+        response = web_client(A).post(url, data)
+    page = web_client(Role.VIEWER).get(response["Location"])
+    html = page.content.decode()
+    assert page.status_code == 200
+    results = html[html.find('id="results"'):]
+    assert "<td>Beginning of Early</td>" in results and "<td>Close of Early</td>" in results
+
+
 def test_a_run_with_settings_out_of_range_is_refused_with_the_reason(site, web_client):
     url, data = _post(site, "run")
     response = web_client(A).post(url, {**data, "chains": 99}, follow=True)
