@@ -40,7 +40,7 @@ from projects.record.representation import CONTEXT_FIELDS
 from . import replay_curves, replay_interpretations, replay_runs
 from .models import PackageImport
 from .package import reader, tables
-from .package.reader import PackageRefused
+from .package.reader import PackageRefused, refuse
 from .portable import KeyMap
 
 _EVIDENCE_ADD = {
@@ -49,11 +49,6 @@ _EVIDENCE_ADD = {
     "calendar_date": evidence_writes._add_calendar_date,
     "terminus": evidence_writes._add_terminus,
 }
-
-
-def refuse(table: str, row, reason: str, code: str, field: str | None = None):
-    return PackageRefused(f"the package was refused: {reason}; nothing was written", field="package",
-                          items=[{"table": table, "row": row, "field": field, "code": code, "reason": reason}])
 
 
 class Actors:

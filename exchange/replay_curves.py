@@ -14,6 +14,7 @@ from chronology.evidence.curves import import_curve
 from chronology.evidence.models import Curve
 
 from .package import reader
+from .package.reader import refuse
 
 
 def _table_text(meta: dict, rows: list[tuple[float, float, float]]) -> str:
@@ -24,7 +25,6 @@ def _table_text(meta: dict, rows: list[tuple[float, float, float]]) -> str:
 
 def provide(replay) -> None:
     """Map every curve checksum of the package to a curve the target organisation may use."""
-    from .replay import refuse
 
     project = replay.project
     wanted = {row["checksum"]: (n, row) for n, row in enumerate(reader.rows(replay.zf, "curves"), start=2)}

@@ -17,6 +17,7 @@ from chronology.interpretations.models import Interpretation, Version
 from chronology.interpretations.services import NotAllowed
 
 from .package import reader
+from .package.reader import refuse
 from .portable import version_key
 
 #: Actions the services log as the consequence of another one.
@@ -42,7 +43,6 @@ class InterpretationReplay:
     def _version(self, key: str) -> Version:
         pk = self.replay.keys.version_row.get(key)
         if pk is None:
-            from .replay import refuse
 
             raise refuse("changes", None, f"version {key} is acted on before it is created", "missing-reference")
         return Version.objects.select_related("interpretation", "project").get(pk=pk)
@@ -138,7 +138,6 @@ class InterpretationReplay:
     def verify(self) -> None:
         """Every version's content, in portable form, hashes as in the package."""
         from .portable import portable_hash
-        from .replay import refuse
 
         keys = self.replay.keys
         for n, (key, row) in enumerate(self.versions.items(), start=2):

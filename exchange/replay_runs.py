@@ -16,11 +16,11 @@ import shutil
 from chronology.runs.models import Run
 
 from .package import reader
+from .package.reader import refuse
 
 
 def replay(replay) -> dict[str, str]:
     """Store every run of the package; returns {new run id: run key in the package}."""
-    from .replay import refuse
 
     keys, made = replay.keys, {}
     by_key: dict[str, Run] = {}

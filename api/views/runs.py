@@ -30,7 +30,7 @@ from chronology.runs.compile import ModelRefused
 from chronology.runs.models import Run, RunState
 from chronology.runs.service import cancel_run, continue_run, submit_run
 from chronology.runs.sources import find_version
-from chronology.runs.sweeper import sweep
+from chronology.runs.sweeper import sweep_if_in_process
 from projects.models import Role
 
 
@@ -47,10 +47,7 @@ class RunViewSet(ProjectScopedViewSet):
     action_roles = {"cancel": Role.ANALYST, "continue_": Role.ANALYST}
 
     def _sweep(self) -> None:
-        from config.celery import app
-
-        if app.conf.task_always_eager:
-            sweep(project=self.get_project())
+        sweep_if_in_process(self.get_project())
 
     def get_queryset(self):
         return Run.objects.filter(project=self.get_project()).select_related("project").prefetch_related("chain_rows")

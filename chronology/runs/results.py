@@ -36,7 +36,7 @@ from chronology.engine.posterior import CAUTION, HPD_MASSES, PosteriorSummary, q
 from chronology.runs.figures import write_run_figures
 
 __all__ = ["CAUTION", "NOT_CONVERGED", "load_model", "load_chain", "combine_draws", "compute_results",
-           "summary_for_database", "read_chain_file", "write_chain_file"]
+           "read_chain_file", "write_chain_file"]
 
 NOT_CONVERGED = (
     f"NOT CONVERGED: at least one reported quantity has R-hat above {R_HAT_MAX} or a bulk or tail effective "

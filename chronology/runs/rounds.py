@@ -23,6 +23,7 @@ from django.db import transaction
 from django.utils import timezone
 
 from . import convergence
+from .dispatch import CHAIN_TASK, send_on_commit
 from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked, crash_error, fail_run
 from .results import compute_results
@@ -41,15 +42,8 @@ def combine_fresh(run: Run, now=None) -> bool:
 
 def send_chains(run_id: str, indices) -> None:
     """Send one chain task per index when the current transaction commits."""
-    from .tasks import run_chain_task
-
-    indices = list(indices)
-
-    def send():
-        for k in indices:
-            run_chain_task.delay(run_id, k)
-
-    transaction.on_commit(send)
+    for k in list(indices):
+        send_on_commit(CHAIN_TASK, run_id, k)
 
 
 def after_chain(run_id, *, dispatch: bool = True) -> str:

@@ -42,19 +42,20 @@ def markdown_summary(run, summary: dict) -> str:
         lines += ["", "## Questions", "", "| Question | Estimate | MCSE |", "|---|---|---|"]
         for q in summary["questions"]:
             if q["kind"] == "precedence":
-                value = f"P = {q['probability']:.3f}"
+                value = f"probability {q.get('probability_text') or q['probability']}"
             else:
                 hpd = "; ".join(f"{r['from']:.0f} to {r['to']:.0f}" for r in q["hpd"].get("95.4", []))
                 value = f"median {q['median']:.0f} years (95.4%: {hpd})"
             mcse = "-" if q["mcse"] is None else f"{q['mcse']:.3g}"
             lines.append(f"| {q['label']} | {value} | {mcse} |")
     if summary.get("outliers"):
-        lines += ["", "## Outliers (Christen 1994)", "", "| Evidence | Prior | Posterior | MCSE |", "|---|---|---|---|"]
-        labels = {r["key"]: r["label"] for r in summary.get("evidence", [])}
+        lines += ["", "## Outliers (Christen 1994)", "",
+                  "| Determination | Context | Chance of being an outlier, assumed | "
+                  "Chance of being an outlier, estimated | MCSE |", "|---|---|---|---|---|"]
         for o in summary["outliers"]:
             mcse = "-" if o["mcse"] is None else f"{o['mcse']:.3f}"
-            lines.append(f"| {labels.get(o['evidence'], o['evidence'])} | {o['prior']:.2f} | {o['posterior']:.3f} | "
-                         f"{mcse} |")
+            lines.append(f"| {o.get('name', '')} | {o.get('event_label', '')} | {o['chance_assumed']:.2f} | "
+                         f"{o.get('chance_estimated_text') or o['chance_estimated']} | {mcse} |")
     if run.compile_notes:
         lines += ["", "## Notes", ""] + [f"- {n}" for n in run.compile_notes]
     lines += ["", f"_{summary.get('caution', '')}_", ""]

@@ -33,6 +33,7 @@ from django.db.models import Q
 from django.utils import timezone
 
 from . import leases
+from .dispatch import COMBINE_TASK, in_process, send_on_commit
 from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked, fail_run
 from .rounds import combine_fresh, send_chains
@@ -133,7 +134,6 @@ def _resend_waiting(run_id, requeue: bool, resend_before, counts: dict) -> None:
 
 def _finish_idle(run_id, requeue: bool, counts: dict) -> None:
     """A cancel nobody honours, or a round nobody closes (all chains stored, no live combine)."""
-    from .tasks import combine_run_task
 
     with transaction.atomic():
         run = Run.objects.select_for_update().filter(pk=run_id).first()
@@ -157,7 +157,13 @@ def _finish_idle(run_id, requeue: bool, counts: dict) -> None:
             failed = True
         else:
             failed = False
-            transaction.on_commit(lambda: combine_run_task.delay(str(run_id)))
+            send_on_commit(COMBINE_TASK, str(run_id))
             counts["combined"] += 1
     if failed and fail_run(run_id, interrupted_error()):
         counts["failed"] += 1
+
+
+def sweep_if_in_process(project) -> None:
+    """With no broker nobody runs the periodic sweep, so reading a project's runs does it."""
+    if in_process():
+        sweep(project=project)

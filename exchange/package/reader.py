@@ -273,3 +273,8 @@ def rows(zf: zipfile.ZipFile, name: str) -> Iterator[dict]:
     """The typed rows of one table of a checked package, streamed."""
     for _n, row in _typed_rows(zf, schemas.BY_NAME[name], None):
         yield row
+
+
+def refuse(table: str, row, reason: str, code: str, field: str | None = None):
+    return PackageRefused(f"the package was refused: {reason}; nothing was written", field="package",
+                          items=[{"table": table, "row": row, "field": field, "code": code, "reason": reason}])

@@ -21,7 +21,7 @@ from django.utils import timezone
 
 from projects.models import ChangeLogEntry, Project, RecordState, Revision
 
-from .history import revision_digest
+from .history import imported_provenance, revision_digest
 
 
 @dataclass(frozen=True)
@@ -39,12 +39,6 @@ class ImportedProvenance:
     device: str = ""
     request_id: str = ""
     user: object | None = None
-
-
-def imported_provenance(imported: ImportedProvenance, common: dict) -> tuple[object, dict]:
-    """The time and log fields of a replayed change: the original ones, no token."""
-    return imported.at, {**common, "user": imported.user, "user_name": imported.user_name[:150],
-                         "token": None, "device": imported.device[:100], "request_id": imported.request_id[:64]}
 
 
 @dataclass(frozen=True)

@@ -93,8 +93,6 @@ def log_entry(project: Project, actor, action: str, *, kind: str, object_id, rep
                       device=actor.device_name, request_id=actor.request_id,
                       client_request_id=getattr(actor, "client_request_id", ""))
         if getattr(actor, "imported", None) is not None:  # a replayed action keeps its original provenance
-            from .changes import imported_provenance
-
             now, common = imported_provenance(actor.imported, common)
         entry = ChangeLogEntry(
             project_id=locked.pk, revision=locked.revision, created_at=now, **common,
@@ -164,3 +162,9 @@ def _states_by_revision(project: Project):
         if state.valid_to is not None:
             closed.setdefault(state.valid_to, []).append((state.kind, state.object_id))
     return written, closed
+
+
+def imported_provenance(imported, common: dict) -> tuple[object, dict]:
+    """The time and log fields of a replayed change: the original ones, no token."""
+    return imported.at, {**common, "user": imported.user, "user_name": imported.user_name[:150],
+                         "token": None, "device": imported.device[:100], "request_id": imported.request_id[:64]}

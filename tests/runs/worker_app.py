@@ -2,7 +2,7 @@
 
 A chain's message is acknowledged late; after a worker dies, Redis hands it
 out again once its visibility timeout has passed, and a chain whose
-heartbeat is older than ``TELLSTACK_RUN_STALE_SECONDS`` is taken over.  Both
+lease (``TELLSTACK_RUN_LEASE_SECONDS``, renewed by heartbeats) ran out is taken over.  Both
 are shortened here so the worker tests finish in seconds.
 """
 
@@ -18,7 +18,8 @@ from django.conf import settings  # noqa: E402
 
 from config.celery import app  # noqa: E402
 
-settings.TELLSTACK_RUN_STALE_SECONDS = float(os.environ.get("TELLSTACK_RUN_STALE_SECONDS", "3"))
+settings.TELLSTACK_RUN_LEASE_SECONDS = float(os.environ.get("TELLSTACK_RUN_LEASE_SECONDS", "3"))
+settings.TELLSTACK_RUN_HEARTBEAT_SECONDS = float(os.environ.get("TELLSTACK_RUN_HEARTBEAT_SECONDS", "0.5"))
 app.conf.broker_transport_options = {
     "visibility_timeout": float(os.environ.get("TELLSTACK_TEST_VISIBILITY_TIMEOUT", "6")),
     "unacked_restore_interval": 1,
