@@ -6,6 +6,7 @@ from rest_framework.routers import DefaultRouter, SimpleRouter
 
 from api.routes.evidence import global_urlpatterns as evidence_global
 from api.views import health, record, schemas, tenancy
+from api.views.token_obtain import TokenObtainView
 
 root = DefaultRouter()
 root.register("organisations", tenancy.OrganisationViewSet, basename="organisation")
@@ -36,5 +37,6 @@ urlpatterns = [
     path("v1/schemas/interpretation/", schemas.interpretation_content, name="schema-interpretation"),
     path("v1/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("v1/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
+    path("v1/auth/token/", TokenObtainView.as_view(), name="token-obtain"),
     path("auth/", include("rest_framework.urls")),
 ]

@@ -39,6 +39,7 @@ INSTALLED_APPS = [
     "rest_framework",
     "django_filters",
     "drf_spectacular",
+    "drf_spectacular_sidecar",
     "projects",
     "chronology",
     "chronology.evidence",
@@ -47,11 +48,13 @@ INSTALLED_APPS = [
     "demo",
     "exchange",
     "api",
+    "web",
 ]
 
 MIDDLEWARE = [
     "api.middleware.RequestIdMiddleware",
     "django.middleware.security.SecurityMiddleware",
+    "whitenoise.middleware.WhiteNoiseMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -74,6 +77,7 @@ TEMPLATES = [
                 "django.template.context_processors.request",
                 "django.contrib.auth.context_processors.auth",
                 "django.contrib.messages.context_processors.messages",
+                "web.context.navigation",
             ],
         },
     },
@@ -114,6 +118,15 @@ USE_TZ = True
 
 STATIC_URL = "static/"
 STATIC_ROOT = DATA_DIR / "static"
+# The service serves its own assets (whitenoise), straight from the apps'
+# static folders, so nothing is fetched from outside and no collectstatic
+# step is needed to start it.
+WHITENOISE_USE_FINDERS = True
+WHITENOISE_AUTOREFRESH = DEBUG
+
+LOGIN_URL = "web:login"
+LOGIN_REDIRECT_URL = "web:home"
+LOGOUT_REDIRECT_URL = "web:login"
 MEDIA_ROOT = Path(env_str("TELLSTACK_MEDIA_DIR", str(DATA_DIR / "media")))
 MEDIA_URL = "media/"
 
@@ -155,6 +168,9 @@ SPECTACULAR_SETTINGS = {
     "VERSION": "1.0.0",
     "SERVE_INCLUDE_SCHEMA": False,
     "COMPONENT_SPLIT_REQUEST": True,
+    # The docs pages load their viewers from the service itself, never a CDN.
+    "SWAGGER_UI_DIST": "SIDECAR",
+    "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
 }
 
 #: The largest request body (bytes; 413 beyond it) and the deepest JSON nesting accepted (400 beyond it).

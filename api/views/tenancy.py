@@ -7,8 +7,10 @@ from rest_framework import mixins, permissions, status, viewsets
 from rest_framework.response import Response
 
 from api.errors import ApiError
+from api.middleware import current_request_id
 from api.serializers.tenancy import OrganisationOut, ProjectInput, ProjectOut, TokenCreated, TokenInput, TokenOut
 from api.views.base import find_project
+from projects import people
 from projects.models import ApiToken, Membership, Organisation, Project, Role
 
 
@@ -79,15 +81,14 @@ class TokenViewSet(mixins.ListModelMixin, viewsets.GenericViewSet):
     def create(self, request):
         data = TokenInput(data=request.data)
         data.is_valid(raise_exception=True)
-        token, key = ApiToken.issue(request.user, data.validated_data["name"])
+        token, key = people.issue_token(request.user, data.validated_data["name"], request_id=current_request_id())
         body = TokenOut(token).data
         body["key"] = key
         return Response(body, status=status.HTTP_201_CREATED)
 
     @extend_schema(responses={204: None})
     def destroy(self, request, pk=None):
-        token = self.get_queryset().filter(pk=pk).first()
-        if token is None:
+        if not self.get_queryset().filter(pk=pk).exists():
             raise ApiError(404, "not-found", "no such token")
-        token.revoke()
+        people.revoke_token(request.user, pk, request_id=current_request_id())
         return Response(status=status.HTTP_204_NO_CONTENT)

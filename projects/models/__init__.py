@@ -1,6 +1,7 @@
 """Tenancy (organisations, roles, projects), device tokens and the field record."""
 
 from .log import ChangeLogEntry, Revision
+from .people_log import PeopleLogEntry
 from .record import Context, RecordState, Relationship
 from .tenancy import Membership, Organisation, Project, ProjectRole, Role
 from .tokens import ApiToken
@@ -14,6 +15,7 @@ __all__ = [
     "IdempotencyRecord",
     "Membership",
     "Organisation",
+    "PeopleLogEntry",
     "Project",
     "ProjectRole",
     "RecordState",

@@ -1,0 +1,1 @@
+"""The pages, one module per part of the service."""
