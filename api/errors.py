@@ -19,7 +19,7 @@ from rest_framework import exceptions, status
 from rest_framework.response import Response
 from rest_framework.views import exception_handler as drf_exception_handler
 
-from api.middleware import current_request_id
+from api.request_ids import current_request_id
 from chronology.engine.errors import EngineError
 from projects.models.append_only import AppendOnlyViolation
 from projects.record.errors import RecordError

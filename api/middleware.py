@@ -8,16 +8,14 @@ change log records as the request.
 
 from __future__ import annotations
 
-import contextvars
 import re
 import uuid
 
-_request_id: contextvars.ContextVar[str] = contextvars.ContextVar("request_id", default="")
+from api.request_ids import current_request_id, reset_request_id, set_request_id
+
+__all__ = ["RequestIdMiddleware", "current_request_id"]
+
 _VALID = re.compile(r"^[A-Za-z0-9._:-]{1,64}$")
-
-
-def current_request_id() -> str:
-    return _request_id.get()
 
 
 class RequestIdMiddleware:
@@ -28,12 +26,12 @@ class RequestIdMiddleware:
         incoming = request.headers.get("X-Request-ID", "")
         request.client_request_id = incoming if _VALID.match(incoming or "") else ""
         request_id = str(uuid.uuid4())
-        token = _request_id.set(request_id)
+        token = set_request_id(request_id)
         request.request_id = request_id
         try:
             response = self.get_response(request)
         finally:
-            _request_id.reset(token)
+            reset_request_id(token)
         response["X-Request-ID"] = request_id
         return response
 
