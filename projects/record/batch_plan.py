@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import uuid as uuid_module
 from dataclasses import dataclass, field
+from types import SimpleNamespace
 
 from django.db.models import Q
 
@@ -28,7 +29,7 @@ from projects.models.record import Certainty
 
 from .errors import RecordConflict, RecordError, RecordInvalid
 from .representation import relationship_text
-from .writes import WORDINGS, _clean_context_fields, _cycle_body, normalise_label, parse_uid
+from .writes import CERTAINTIES, WORDINGS, _WORDING_SET, _clean_context_fields, _cycle_body, normalise_label, parse_uid
 
 
 @dataclass
@@ -167,20 +168,21 @@ class _Planner:
                     elif isinstance(end, str):
                         labels.add(_label_or_none(end))
         uids.discard(None), labels.discard(None), rel_uids.discard(None)
+        # Plain rows, not model instances: a batch names thousands of stored objects.
         active = Context.objects.filter(project=project, retracted_revision__isnull=True)
-        found = list(active.filter(Q(label__in=labels) | Q(pk__in=ids)).order_by())
+        found = _rows(active.filter(Q(label__in=labels) | Q(pk__in=ids)), _CONTEXT_COLUMNS)
         for ctx in found:
             self.by_label[ctx.label] = ctx
             self.by_id[ctx.pk] = ctx
-        for ctx in Context.objects.filter(project=project, uid__in=uids).order_by():
+        for ctx in _rows(Context.objects.filter(project=project, uid__in=uids), _CONTEXT_COLUMNS):
             self.context_uids[ctx.uid] = ctx
-        for rel in Relationship.objects.filter(project=project, uid__in=rel_uids).order_by():
+        for rel in _rows(Relationship.objects.filter(project=project, uid__in=rel_uids), _RELATIONSHIP_COLUMNS):
             self.relationship_uids[rel.uid] = rel
         named = [c.pk for c in found]
         rels = Relationship.objects.filter(
             project=project, retracted_revision__isnull=True, later_id__in=named, earlier_id__in=named
-        ).order_by("id")
-        for rel in rels:
+        )
+        for rel in _rows(rels, _RELATIONSHIP_COLUMNS):
             self.between.setdefault(frozenset((rel.later_id, rel.earlier_id)), []).append(rel)
         self.plan.uids = {str(u) for u in uids | rel_uids}
         self.plan.label_set = set(labels)
@@ -233,10 +235,10 @@ class _Planner:
         if not isinstance(data, dict):
             raise RecordInvalid("each relationship must be an object", code="invalid")
         wording = data.get("type")
-        if wording not in WORDINGS:
+        if wording not in _WORDING_SET:
             raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice")
         certainty = data.get("certainty") or Certainty.CERTAIN
-        if certainty not in Certainty.values:
+        if certainty not in CERTAINTIES:
             raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
         note = data.get("note") or ""
         if not isinstance(note, str):
@@ -307,6 +309,22 @@ class _Planner:
         code = "cycle" if type_ in ORDERED_TYPES else "equality-contradicts-order"
         text = relationship_text(type_, labels[later], labels[earlier])
         return RecordConflict(f"{text} would make the temporal order cyclic", field="type", code=code, cycle=body)
+
+
+_CONTEXT_COLUMNS = ("id", "uid", "label", "kind", "description", "area", "top_level", "base_level")
+_RELATIONSHIP_COLUMNS = ("id", "uid", "type", "later_id", "earlier_id", "certainty")
+
+
+class _Stored(SimpleNamespace):
+    """A stored row as the plan needs it (attributes as on the model, ``pk`` included)."""
+
+    @property
+    def pk(self):
+        return self.id
+
+
+def _rows(queryset, columns) -> list[_Stored]:
+    return [_Stored(**dict(zip(columns, values))) for values in queryset.order_by("id").values_list(*columns)]
 
 
 def _found(obj):

@@ -21,6 +21,7 @@ from django.utils import timezone
 
 from projects.models import ChangeLogEntry, Project, RecordState, Revision
 
+from .bulk_insert import insert_rows
 from .history import imported_provenance, revision_digest
 
 
@@ -148,9 +149,8 @@ class ChangeSet:
             for (kind, object_id), data in self._states.items()
         ]
         self._close_rows()
-        ChangeLogEntry.objects.bulk_create(rows)
-        if states:
-            RecordState.objects.bulk_create(states)
+        insert_rows(ChangeLogEntry, rows)
+        insert_rows(RecordState, states)
         parent = self.project.head_digest
         revision = Revision(
             number=self.revision, parent_digest=parent, created_at=now,

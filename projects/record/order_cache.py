@@ -13,7 +13,7 @@ database.
 
 from __future__ import annotations
 
-import copy
+import pickle
 import threading
 from dataclasses import dataclass
 
@@ -109,6 +109,11 @@ def checkout(project: Project) -> IncrementalOrder:
     return order
 
 
+def private_copy(order: IncrementalOrder) -> IncrementalOrder:
+    """An independent copy of ``order`` (a pickle round trip: several times faster than ``deepcopy``)."""
+    return pickle.loads(pickle.dumps(order, protocol=pickle.HIGHEST_PROTOCOL))
+
+
 def snapshot(project: Project) -> IncrementalOrder:
     """A private copy of the order at ``project.revision`` (as just read), for planning without the lock.
 
@@ -120,7 +125,7 @@ def snapshot(project: Project) -> IncrementalOrder:
     order = _catch_up(project, cached) if cached is not None else None
     if order is None:
         order = build_order(project)
-    private = copy.deepcopy(order)
+    private = private_copy(order)
     with _lock:
         current = _registry.get(project.pk)
         if current is None or current.revision < project.revision:

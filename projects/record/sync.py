@@ -18,7 +18,6 @@ in between.
 
 from __future__ import annotations
 
-import copy
 import hashlib
 import json
 
@@ -29,6 +28,7 @@ from chronology.engine.record_data import RelationshipData
 from projects.models import ChangeLogEntry, Context, Project, Relationship, SyncBatch
 
 from . import order_cache
+from .bulk_insert import insert_rows
 from .batch_plan import BatchPlan, PlannedContext, PlannedRelationship, Repeat, plan_batch
 from .changes import Actor, record_change
 from .errors import BatchRejected, RecordConflict, RecordError, RecordInvalid
@@ -73,7 +73,7 @@ def sync_batch(project: Project, actor: Actor, *, batch_id, contexts=(), relatio
                 since = _record_changes_since(changes.project, plan.revision)
                 recheck = any(kind == "relationship" for kind, _, _ in since)
                 if not plan.still_holds(since):
-                    plan = plan_batch(changes.project, _private(order), contexts, relationships)
+                    plan = plan_batch(changes.project, order_cache.private_copy(order), contexts, relationships)
                     _refuse_if_bad(plan)
                     recheck = False
             answer = _apply(changes, order, plan, recheck=recheck, batch_uuid=batch_uuid, body=body)
@@ -107,10 +107,6 @@ def _refuse_if_bad(plan: BatchPlan) -> None:
         )
 
 
-def _private(order):
-    return copy.deepcopy(order)
-
-
 def _record_changes_since(project: Project, revision: int) -> list[tuple]:
     return list(
         ChangeLogEntry.objects.filter(
@@ -130,7 +126,7 @@ def _apply(changes, order, plan: BatchPlan, *, recheck: bool, batch_uuid, body: 
     rows = [
         Context(project=project, uid=c.uid, created_revision=revision, **c.fields) for c in new_contexts
     ]
-    Context.objects.bulk_create(rows)
+    insert_rows(Context, rows, with_ids=True)
     ids = {c.placeholder: row.pk for c, row in zip(new_contexts, rows)}
     written = {c.placeholder: row for c, row in zip(new_contexts, rows)}
     for row in rows:
@@ -145,7 +141,7 @@ def _apply(changes, order, plan: BatchPlan, *, recheck: bool, batch_uuid, body: 
             project=project, uid=r.uid, type=r.type, later_id=later, earlier_id=earlier, certainty=r.certainty,
             recorded_as=r.recorded_as, note=r.note, created_revision=revision,
         ))
-    Relationship.objects.bulk_create(edges)
+    insert_rows(Relationship, edges, with_ids=True)
     labels = {ids.get(k, k): v for k, v in plan.labels.items()}
     for r, rel in zip(new_relationships, edges):
         data = RelationshipData(id=rel.pk, type=rel.type, later=rel.later_id, earlier=rel.earlier_id,
