@@ -33,18 +33,47 @@ def insert_rows(model, rows: list, *, with_ids: bool = False) -> None:
     fields = [f for f in model._meta.concrete_fields if with_ids or not f.primary_key]
     columns = ", ".join(connection.ops.quote_name(f.column) for f in fields)
     table = connection.ops.quote_name(model._meta.db_table)
-    # psycopg adapts plain values itself; only JSON needs its wrapper.  Field-by-field
-    # preparation through Django costs more than the COPY.
-    names = [f.attname for f in fields]
-    json_at = [i for i, f in enumerate(fields) if isinstance(f, models.JSONField)]
     with connection.cursor() as cursor:
         with cursor.cursor.copy(f"COPY {table} ({columns}) FROM STDIN") as copy:
             for obj in rows:
-                values = [getattr(obj, name) for name in names]
-                for i in json_at:
-                    if values[i] is not None:
-                        values[i] = Jsonb(values[i])
-                copy.write_row(values)
+                copy.write_row(_values(model, fields, obj))
+
+
+def _values(model, fields, obj) -> list:
+    # psycopg adapts plain values itself; only JSON needs its wrapper.  Field-by-field
+    # preparation through Django costs more than the statement.
+    values = [getattr(obj, f.attname) for f in fields]
+    for i, f in enumerate(fields):
+        if isinstance(f, models.JSONField) and values[i] is not None:
+            values[i] = Jsonb(values[i])
+    return values
+
+
+def insert_statement(model, rows: list) -> tuple[str, list]:
+    """``INSERT INTO ... VALUES (...), (...)`` for ``rows`` (ids left to the table), with its parameters."""
+    fields = [f for f in model._meta.concrete_fields if not f.primary_key]
+    columns = ", ".join(connection.ops.quote_name(f.column) for f in fields)
+    one = "(" + ", ".join(["%s"] * len(fields)) + ")"
+    params = [value for obj in rows for value in _values(model, fields, obj)]
+    table = connection.ops.quote_name(model._meta.db_table)
+    return f"INSERT INTO {table} ({columns}) VALUES {', '.join([one] * len(rows))}", params
+
+
+def run_together(statements: list[tuple[str, list]], last: tuple[str, list]) -> None:
+    """Run the data-changing ``statements`` and ``last`` as one PostgreSQL statement.
+
+    Data-modifying ``WITH`` clauses (PostgreSQL documentation, "WITH Queries",
+    section "Data-Modifying Statements in WITH") run in one round trip to the
+    server and see one snapshot; the statements must not depend on each
+    other's effects.
+    """
+    clauses, params = [], []
+    for i, (sql, values) in enumerate(statements):
+        clauses.append(f"w{i} AS ({sql})")
+        params.extend(values)
+    sql = (f"WITH {', '.join(clauses)} " if clauses else "") + last[0]
+    with connection.cursor() as cursor:
+        cursor.execute(sql, params + list(last[1]))
 
 
 def _draw_ids(model, rows: list) -> None:
@@ -60,4 +89,4 @@ def _draw_ids(model, rows: list) -> None:
             obj._state.db = connection.alias
 
 
-__all__ = ["insert_rows", "COPY_FROM"]
+__all__ = ["insert_rows", "insert_statement", "run_together", "COPY_FROM"]
