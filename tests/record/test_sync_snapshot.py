@@ -144,3 +144,21 @@ def test_a_retraction_after_the_snapshot_turns_a_stored_duplicate_into_a_new_ite
     ])
     assert answer["relationships"][0]["status"] == "created"
     assert Relationship.objects.filter(later__label="1003", retracted_revision__isnull=True).count() == 1
+
+
+def test_a_large_batch_written_in_bulk_reads_back_exactly_and_keeps_the_chain_whole(project, actor):
+    from projects.record.bulk_insert import COPY_FROM
+    from projects.record.history import verify
+
+    n = COPY_FROM + 50  # past the size where the history rows are streamed rather than inserted
+    labels = [f"{2000 + i}" for i in range(n)]
+    answer = sync_batch(project, actor, batch_id=_uid(), contexts=_contexts(*labels), relationships=[
+        {"subject": labels[i + 1], "type": "above", "object": labels[i]} for i in range(n - 1)
+    ])
+    stored = dict(Context.objects.values_list("label", "id"))
+    assert [c["id"] for c in answer["contexts"]] == [stored[label] for label in labels]
+    assert ChangeLogEntry.objects.filter(revision=1).count() == 2 * n - 1
+    project.refresh_from_db()
+    _head, broken, _links = verify(project)
+    assert broken is None
+    assert project.head_digest == _head

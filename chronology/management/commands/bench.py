@@ -20,6 +20,7 @@ SUITES = {
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
+    "sync": "chronology.benchmarks.sync",
 }
 
 
@@ -39,10 +40,10 @@ class Command(BaseCommand):
         except ImportError as exc:
             raise CommandError(f"suite {suite} is not available: {exc}") from exc
         kwargs = {}
-        if suite == "record":
+        if suite in ("record", "sync"):
             if contexts:
                 kwargs["contexts"] = contexts[0]
-            if posts:
+            if posts and suite == "record":
                 kwargs["posts"] = posts
         elif contexts and suite in ("graph", "diagram"):
             kwargs["sizes"] = tuple(contexts)
