@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import uuid
+
 import pytest
 from django.db import connection
 
 from projects.record import writes
+from projects.record.sync import sync_batch
 from projects.record.errors import RecordConflict, RecordInvalid
 from tests.api.conftest import url
 from tests.record.helpers import add_contexts
@@ -41,7 +44,8 @@ def test_the_api_refuses_a_zero_width_label_with_400(api, project):
 
 def _post_costs(api, project, actor, n, django_assert_max_num_queries):
     labels = [f"{i:05d}" for i in range(n)]
-    add_contexts(project, actor, labels)
+    sync_batch(project, actor, batch_id=uuid.uuid4(),
+               contexts=[{"label": label, "kind": "deposit", "area": "A"} for label in labels])
     api.post(url("VML24", "relationships"), {"subject": labels[-1], "type": "above", "object": labels[-2]},
              format="json")  # warms the order cache, as a running server has it
     with django_assert_max_num_queries(POST_QUERIES) as captured:
