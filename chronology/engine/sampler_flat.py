@@ -53,6 +53,9 @@ class FlatModel:
     block_first: np.ndarray
     block_last: np.ndarray
     block_k: np.ndarray
+    block_group: np.ndarray
+    group_ptr: np.ndarray
+    group_blocks: np.ndarray
     node_phase_ptr: np.ndarray
     node_phase_idx: np.ndarray
     node_block_ptr: np.ndarray
@@ -183,6 +186,7 @@ def flatten(model: Model) -> FlatModel:
         phase_start=pstruct.phase_start, phase_end=pstruct.phase_end, phase_n=pstruct.phase_n,
         shift_ptr=shp, shift_idx=shi,
         block_first=pstruct.block_first, block_last=pstruct.block_last, block_k=pstruct.block_k,
+        block_group=pstruct.block_group, group_ptr=pstruct.group_ptr, group_blocks=pstruct.group_blocks,
         node_phase_ptr=npp, node_phase_idx=npi, node_block_ptr=nbp, node_block_idx=nbi,
         prior_active=bool(pstruct.active), lo=float(model.range_lo), hi=float(model.range_hi),
         left=float(g.start - g.step / 2), step=float(g.step),

@@ -96,6 +96,5 @@ def test_ranks_are_uniform_with_termini(curve, tmp_path):
 
 
 @pytest.mark.slow
-@pytest.mark.xfail(strict=True, reason="overlapping phases: the boundaries of the last phase are not calibrated yet")
 def test_ranks_are_uniform_for_overlapping_phases(curve, tmp_path):
     _check(SiteDesign((3, 3, 3), "overlapping"), curve, tmp_path, entropy=105)
