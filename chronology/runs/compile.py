@@ -178,6 +178,8 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         phases.append(PhaseInput(p.key, tuple(members), p.arrangement_next, p.label))
 
     grid, lo, hi = choose_grid(reading, terms, evidence)
+    if reading.range is not None:
+        notes.append(f"overall range set by the version: {lo:g} to {hi:g} (astronomical years)")
     inputs, table = [], []
     for t in terms:
         row = {"key": t.key, "label": t.label, "kind": t.kind, "context": t.context,
