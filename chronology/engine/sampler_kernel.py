@@ -31,7 +31,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                  phase_start, phase_end, phase_n, shift_ptr, shift_idx,
                  block_first, block_last, block_k, block_group, group_ptr, group_blocks,
                  node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                 prior_active, L, U, left, step, it0, block_every, log_tau):
+                 prior_active, L, U, left, step, hard_lo, hard_hi, it0, block_every, log_tau):
     N = x.shape[0]
     G = static_ll.shape[1]
     R = U - L
@@ -43,6 +43,10 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
         # --- single-site updates ------------------------------------------
         for v in range(N):
             lo, hi = bounds(v, x, pred_ptr, pred_idx, succ_ptr, succ_idx, L, U)
+            if hard_lo[v] > lo:
+                lo = hard_lo[v]
+            if hard_hi[v] < hi:
+                hi = hard_hi[v]
             if hi <= lo:
                 continue
             kv = kind[v]
@@ -92,7 +96,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                                succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
                                phase_start, phase_end, phase_n, block_first, block_last, block_k,
                                block_group, group_ptr, group_blocks,
-                               prior_active, L, U, R, left, step, G)
+                               prior_active, L, U, R, left, step, G, hard_lo, hard_hi)
             for move in range(2 * BLOCK_REPEATS):
                 mode = move % 2
                 # the scale pivot is the current midpoint, which scaling leaves in place
@@ -104,7 +108,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
                                   block_group, group_ptr, group_blocks,
-                                  prior_active, L, U, R, left, step, G, rng)
+                                  prior_active, L, U, R, left, step, G, hard_lo, hard_hi, rng)
                 if it < record_from:
                     # Robbins-Monro tuning toward acceptance 0.44, during warm-up only
                     log_tau[p, mode] += (1.0 / np.sqrt(1.0 + it)) * ((1.0 if ok else 0.0) - 0.44)
@@ -133,5 +137,5 @@ def kernel_args(f: FlatModel):
             f.phase_start, f.phase_end, f.phase_n, f.shift_ptr, f.shift_idx,
             f.block_first, f.block_last, f.block_k, f.block_group, f.group_ptr, f.group_blocks,
             f.node_phase_ptr, f.node_phase_idx, f.node_block_ptr, f.node_block_idx,
-            bool(f.prior_active), float(f.lo), float(f.hi), float(f.left), float(f.step))
+            bool(f.prior_active), float(f.lo), float(f.hi), float(f.left), float(f.step), f.hard_lo, f.hard_hi)
 
