@@ -103,3 +103,15 @@ def test_prior_only_chain_of_ordered_overlapping_phases_gives_uniform_spans():
     for j in (1, 2, 3):
         span = r.draws[:, keys.index(f"close:P{j}")] - r.draws[:, keys.index(f"beginning:P{j}")]
         assert stats.kstest(span / R, "uniform").pvalue > 1e-3, j
+
+
+def test_the_kernel_evaluates_the_same_prior_as_the_reference_function():
+    from chronology.engine.sampler import flatten
+    from chronology.engine.sampler_updates import full_log_prior
+
+    model = _overlapping((2, 3, 1))
+    f = flatten(model)
+    x = np.array([10.0, 400.0, 50.0, 300.0, 200.0, 990.0] + [250.0] * (len(model.event_keys) - 6))
+    kernel = full_log_prior(x, f.phase_start, f.phase_end, f.phase_n, f.block_first, f.block_last, f.block_k,
+                            f.block_group, f.group_ptr, f.group_blocks, R)
+    assert kernel == pytest.approx(log_prior(prior_structure(model), x), rel=1e-12)
