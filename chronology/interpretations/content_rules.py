@@ -66,7 +66,17 @@ def problems(doc: Mapping) -> list[dict]:
     _orderings(out, doc)
     _estimate(out, doc)
     _questions(out, doc, keys, evidence)
+    _range(out, doc)
     return out.items
+
+
+def _range(out: _Problems, doc: Mapping) -> None:
+    r = doc.get("range")
+    if not isinstance(r, Mapping):
+        return
+    lo, hi = r.get("earliest"), r.get("latest")
+    if _number(lo) and _number(hi) and not lo < hi:
+        out.add("range.latest", "invalid-range", "the latest end of the overall range must be later than the earliest")
 
 
 def _phases(out: _Problems, doc: Mapping) -> set[str]:

@@ -21,6 +21,7 @@ SUITES = {
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
     "sync": "chronology.benchmarks.sync",
+    "coverage": "chronology.benchmarks.coverage",
 }
 
 
