@@ -10,7 +10,10 @@ posteriors (:mod:`chronology.engine.power_posterior`) on a ladder
 
 each expectation estimated from draws of the power posterior at
 ``beta_(k-1)`` (the first from the prior itself, so the prior's normalising
-constant, which the sampler never needs, cancels).  The ladder puts the
+constant, which the sampler never needs, cancels).  The stones are sampled
+from the posterior down to the prior, each chain starting from the last
+draw of the stone above (four times the warm-up for the first, at the
+posterior).  The ladder puts the
 stones at the quantiles of a Beta(alpha, 1) distribution,
 ``beta_k = (k / K)^(1 / alpha)`` with ``alpha = 0.3``, as the paper
 recommends: most stones near the prior, where ``log Z_beta`` changes fastest.
@@ -64,9 +67,11 @@ class SteppingStoneSettings:
     """How hard to work for one marginal likelihood.
 
     ``stones`` ratios (K), ``alpha`` of the Beta(alpha, 1) ladder, per stone
-    ``warmup`` sweeps then ``draws`` kept draws ``thin`` sweeps apart, and
-    ``repeats`` independent runs of the whole ladder (at least 2, for the
-    Monte Carlo error).
+    ``warmup`` sweeps then ``draws`` kept draws ``thin`` sweeps apart (times
+    ``prior_thin_factor`` for stones sampled at ``beta < near_prior``, where
+    the chain mixes slowest and the ratios vary most), and ``repeats``
+    independent runs of the whole ladder (at least 2, for the Monte Carlo
+    error).
     """
 
     stones: int = 24
@@ -75,9 +80,12 @@ class SteppingStoneSettings:
     thin: int = 2
     warmup: int = 200
     repeats: int = 4
+    prior_thin_factor: int = 1
+    near_prior: float = 0.01
 
     def __post_init__(self):
-        if self.stones < 1 or self.draws < 2 or self.thin < 1 or self.warmup < 0 or self.repeats < 2:
+        if (self.stones < 1 or self.draws < 2 or self.thin < 1 or self.warmup < 0 or self.repeats < 2
+                or self.prior_thin_factor < 1):
             raise ValueError("stones >= 1, draws >= 2, thin >= 1, warmup >= 0 and repeats >= 2 are required")
         if not self.alpha > 0:
             raise ValueError("alpha must be positive")
@@ -141,13 +149,20 @@ def log_mean_exp(values: np.ndarray) -> float:
 
 def _one_ladder(flat: FlatModel, betas: np.ndarray, seed: np.random.SeedSequence, s: SteppingStoneSettings,
                 done: Callable[[], None], cancel) -> np.ndarray:
+    # from the posterior toward the prior, as Xie et al. (2011) do: each stone's chain starts from the last
+    # draw of the stone above it, so no chain starts from a jammed dispersed state at a low temperature
     seeds = seed.spawn(len(betas) - 1)
     out = np.empty(len(betas) - 1)
-    for k in range(1, len(betas)):
-        chain = run_chain(tempered(flat, betas[k - 1]), seeds[k - 1], iterations=s.draws * s.thin,
-                          warmup=s.warmup, thin=s.thin, cancel=cancel)
+    x, phi = None, None
+    for k in range(len(betas) - 1, 0, -1):
+        # near the prior the chain wanders slowly and the ratio varies most: thin more there
+        thin = s.thin * (s.prior_thin_factor if betas[k - 1] < s.near_prior else 1)
+        chain = run_chain(tempered(flat, betas[k - 1]), seeds[k - 1], iterations=s.draws * thin,
+                          warmup=s.warmup * (4 if x is None else 1), thin=thin, cancel=cancel,
+                          initial=x, initial_outliers=phi)
         ll = draw_log_likelihoods(flat, chain)
         out[k - 1] = log_mean_exp((betas[k] - betas[k - 1]) * ll)
+        x, phi = chain.draws[-1], chain.outliers[-1]
         done()
     return out
 
