@@ -41,6 +41,7 @@ from typing import Callable
 
 import numpy as np
 
+from chronology.engine.errors import EngineError
 from chronology.engine.model import Model
 from chronology.engine.power_posterior import draw_log_likelihoods, tempered
 from chronology.engine.sampler import run_chain
@@ -48,6 +49,7 @@ from chronology.engine.sampler_flat import FlatModel, flatten
 
 __all__ = [
     "MARGINAL_LIKELIHOOD_METHOD",
+    "MarginalLikelihoodError",
     "SteppingStoneSettings",
     "MarginalLikelihood",
     "beta_ladder",
@@ -60,6 +62,12 @@ MARGINAL_LIKELIHOOD_METHOD = (
     "ladder, each sampled with the service's Metropolis-within-Gibbs sampler; Monte Carlo error from "
     "independent repeats"
 )
+
+
+class MarginalLikelihoodError(EngineError):
+    """A stepping-stone estimate that could not be made (every draw of a stone had zero likelihood)."""
+
+    code = "marginal-likelihood-failed"
 
 
 @dataclass(frozen=True)
@@ -196,6 +204,11 @@ def stepping_stone(
     -------
     MarginalLikelihood
 
+    Raises
+    ------
+    MarginalLikelihoodError
+        When every draw of a stone has zero likelihood (the ladder is too coarse).
+
     Notes
     -----
     ``p(y)`` is a density in the units of the evidence's likelihoods (per
@@ -227,6 +240,12 @@ def stepping_stone(
             ratios = list(pool.map(lambda r: _one_ladder(flat, betas, seeds[r], s, done, cancel), range(s.repeats)))
     ratios = np.array(ratios)
     per_repeat = ratios.sum(axis=1)
+    if not np.all(np.isfinite(per_repeat)):
+        stones = sorted({int(k) + 1 for k in np.argwhere(~np.isfinite(ratios))[:, 1]})
+        raise MarginalLikelihoodError(
+            "every draw of a stone near the prior lies where the likelihood is zero (outside a hard bound such as "
+            "a terminus): use more stones so the first steps from the prior are smaller",
+            details={"stones": stones, "settings": s.as_dict()})
     return MarginalLikelihood(
         log_ml=float(per_repeat.mean()),
         mcse=float(per_repeat.std(ddof=1) / np.sqrt(s.repeats)),

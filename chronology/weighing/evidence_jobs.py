@@ -31,10 +31,10 @@ from .candidates import prepare
 from .evidence_work import ESTIMATE_KIND, WEIGHING_KIND, children_of, finish_if_complete
 
 __all__ = ["WEIGHING_KIND", "ESTIMATE_KIND", "SETTING_LIMITS", "settings_from", "start_weighing", "weighing_view",
-           "cancel_weighing"]
+           "cancel_weighing", "recent_weighings"]
 
 #: Accepted settings of a weighing: name -> (least, greatest).
-SETTING_LIMITS = {"stones": (4, 64), "draws": (50, 5000), "thin": (1, 20), "warmup": (0, 5000), "repeats": (2, 16)}
+SETTING_LIMITS = {"stones": (8, 64), "draws": (50, 5000), "thin": (1, 20), "warmup": (0, 5000), "repeats": (2, 16)}
 
 
 def settings_from(data) -> SteppingStoneSettings:
@@ -141,3 +141,14 @@ def cancel_weighing(job: Job) -> Job:
             finish_if_complete(job.pk)
     job.refresh_from_db()
     return job
+
+
+def recent_weighings(project, limit: int = 5) -> list[dict]:
+    """The project's latest finished weighings, for a results block on a page: best first in each."""
+    rows = []
+    for job in Job.objects.filter(project=project, kind=WEIGHING_KIND, state=JobState.DONE).order_by("-finished_at",
+                                                                                                    "id")[:limit]:
+        result = job.result or {}
+        rows.append({"id": str(job.pk), "finished_at": job.finished_at, "mode": job.params.get("mode"),
+                     "candidates": sorted(result.get("candidates") or [], key=lambda c: -c["posterior_probability"])})
+    return rows

@@ -177,3 +177,35 @@ def test_equal_prior_weights_give_posterior_probabilities_that_sum_to_one():
     probs = [c["posterior_probability"] for c in comparison.as_dict()["candidates"]]
     assert np.isclose(sum(probs), 1.0)
     assert all(0.3 < p < 0.7 for p in probs)
+
+
+def test_no_strength_is_claimed_when_the_monte_carlo_error_could_reverse_the_order():
+    from types import SimpleNamespace
+
+    from chronology.engine.bayes_factors import UNDETERMINED
+
+    rows = compare({"a": SimpleNamespace(log_ml=-50.0, mcse=0.1),
+                    "b": SimpleNamespace(log_ml=-65.0, mcse=14.0)}).as_dict()["candidates"]
+    assert rows[1]["strength"] == UNDETERMINED
+
+
+def test_a_clear_difference_gets_kass_and_raftery_words():
+    # Kass & Raftery (1995), §3.2: 2 ln BF above 10 is "very strong"
+    from types import SimpleNamespace
+
+    rows = compare({"a": SimpleNamespace(log_ml=-50.0, mcse=0.1),
+                    "b": SimpleNamespace(log_ml=-56.0, mcse=0.1)}).as_dict()["candidates"]
+    assert rows[1]["strength"] == "very strong"
+
+
+def test_a_ladder_whose_first_stone_sees_only_zero_likelihood_is_refused_with_the_reason():
+    # a terminus-like hard bound: zero likelihood below year 390 of a 400-year range, so prior draws rarely qualify
+    import pytest
+
+    from chronology.engine.marginal_likelihood import MarginalLikelihoodError
+
+    ll = np.where(GRID.years >= 399.0, 0.0, -np.inf)
+    m = compile_model(GRID, phases=[], order=[], evidence=[EvidenceInput("t", "c", ll)], range_lo=L, range_hi=U)
+    with pytest.raises(MarginalLikelihoodError) as caught:
+        stepping_stone(m, entropy=3, settings=SteppingStoneSettings(stones=4, draws=20, thin=1, warmup=5, repeats=2))
+    assert caught.value.code == "marginal-likelihood-failed" and 1 in caught.value.details["stones"]

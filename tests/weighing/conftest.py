@@ -20,7 +20,7 @@ from projects.record import writes
 from tests.runs.conftest import _media, analyst_actor, build_site  # noqa: F401  (fixtures re-used)
 
 #: Few, short stones: enough to exercise the path, not to be precise.
-QUICK = {"stones": 6, "draws": 60, "thin": 1, "warmup": 30, "repeats": 2}
+QUICK = {"stones": 8, "draws": 60, "thin": 1, "warmup": 30, "repeats": 2}
 QUICK_SAMPLING = {"chains": 2, "iterations": 2500, "warmup": 300}
 
 
