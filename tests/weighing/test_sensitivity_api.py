@@ -91,3 +91,19 @@ def test_a_viewer_cannot_start_a_sensitivity_run(readings, client_for, project, 
                                            "variations": [{"outlier_prior": 0.1}]},
                      django_capture_on_commit_callbacks, role=Role.VIEWER)
     assert response.status_code == 403
+
+
+def test_another_curve_is_used_for_every_determination(readings, client_for, project,
+                                                       django_capture_on_commit_callbacks):
+    from chronology.engine.curves import curve_to_csv
+    from chronology.engine.synthetic_curve import synthetic_curve
+    from chronology.evidence.curves import import_curve
+
+    other, _ = import_curve(curve_to_csv(synthetic_curve(0, 6000, step=10.0)), name="Synthetic curve, 10-year rows")
+    assert other.pk != readings["curve"].pk
+    response = _post(client_for, project, {"version": readings["sequential"].pk, "settings": QUICK_SAMPLING,
+                                           "variations": [{"curve": other.pk}]}, django_capture_on_commit_callbacks)
+    assert response.status_code == 202, response.json()
+    body = client_for(Role.VIEWER).get(response["Location"]).json()
+    assert [c["key"] for c in body["result"]["variations"][0]["curves"]] == [str(other.pk)]
+    assert [c["key"] for c in body["result"]["base"]["curves"]] == [str(readings["curve"].pk)]
