@@ -45,6 +45,7 @@ INSTALLED_APPS = [
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
+    "chronology.weighing",
     "demo",
     "exchange",
     "api",

@@ -22,6 +22,7 @@ SUITES = {
     "calibration-check": "chronology.benchmarks.calibration_check",
     "sync": "chronology.benchmarks.sync",
     "coverage": "chronology.benchmarks.coverage",
+    "evidence": "chronology.benchmarks.evidence",
 }
 
 
