@@ -145,10 +145,15 @@ def placements(pos: dict, found: Found, x: int, y: int, low: int, high: int) -> 
 
 
 def renumber(pos: dict) -> int:
-    """Spread every position ``SPACING`` apart in the current order; return the greatest."""
+    """Spread every position apart in the current order; return the greatest.
+
+    The spacing is ``SPACING``, or more than the number of nodes if that is
+    larger, so that any set fits between two neighbours afterwards.
+    """
+    spacing = max(SPACING, len(pos) + 1)
     position = 0
     for node in sorted(pos, key=pos.__getitem__):
         pos[node] = position
-        position += SPACING
-    return position - SPACING
+        position += spacing
+    return position - spacing
 
