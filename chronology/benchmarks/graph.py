@@ -34,6 +34,7 @@ time beside it because the two differ on a shared machine), and the total.
 from __future__ import annotations
 
 import gc
+import importlib.util
 import multiprocessing as mp
 import queue as queue_module
 import random
@@ -181,6 +182,8 @@ def _in_child(target, args, limit: float | None):
 
 def _reference(name, target, shape, n, seed, limit, history) -> dict:
     """One reference run, or the reason it was not run or did not finish."""
+    if importlib.util.find_spec(name) is None:
+        return {"seconds": None, "note": f"{name} is not installed (the bench extra)"}
     previous = history.get((name, shape))
     if previous is not None:
         prev_n, prev_seconds = previous
