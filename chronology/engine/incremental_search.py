@@ -75,6 +75,8 @@ def two_way_search(out: dict, inn: dict, pos: dict, x: int, y: int) -> Found:
     fstack = [y]
     bseen = {x}
     bstack = [x]
+    fadd, fpush, fpop = fseen.add, fstack.append, fstack.pop
+    badd, bpush, bpop = bseen.add, bstack.append, bstack.pop
     fwork = bwork = 0
     fbound = None  # least position of a successor of F outside the window
     bbound = None  # greatest position of a predecessor of B outside the window
@@ -82,8 +84,7 @@ def two_way_search(out: dict, inn: dict, pos: dict, x: int, y: int) -> Found:
         if fwork <= bwork:
             if not fstack:
                 return Found(False, True, fseen, fbound)
-            v = fstack.pop()
-            succs = out[v]
+            succs = out[fpop()]
             fwork += len(succs) + 1
             for w in succs:
                 if w in fseen:
@@ -92,15 +93,14 @@ def two_way_search(out: dict, inn: dict, pos: dict, x: int, y: int) -> Found:
                     return CYCLE
                 pw = pos[w]
                 if pw <= px:
-                    fseen.add(w)
-                    fstack.append(w)
+                    fadd(w)
+                    fpush(w)
                 elif fbound is None or pw < fbound:
                     fbound = pw
         else:
             if not bstack:
                 return Found(False, False, bseen, bbound)
-            v = bstack.pop()
-            preds = inn[v]
+            preds = inn[bpop()]
             bwork += len(preds) + 1
             for w in preds:
                 if w in bseen:
@@ -109,8 +109,8 @@ def two_way_search(out: dict, inn: dict, pos: dict, x: int, y: int) -> Found:
                     return CYCLE
                 pw = pos[w]
                 if pw >= py:
-                    bseen.add(w)
-                    bstack.append(w)
+                    badd(w)
+                    bpush(w)
                 elif bbound is None or pw > bbound:
                     bbound = pw
 
