@@ -34,6 +34,8 @@ time beside it because the two differ on a shared machine), and the total.
 from __future__ import annotations
 
 import gc
+import json
+import sys
 import importlib.util
 import multiprocessing as mp
 import queue as queue_module
@@ -241,6 +243,11 @@ def _incremental_child(order_name: str, n: int, seed: int, out) -> None:
     })
 
 
+def _progress(item: dict) -> None:
+    """One line per finished case on standard error (standard output carries the JSON)."""
+    print(json.dumps(item), file=sys.stderr, flush=True)
+
+
 def _rounded(value, digits=4):
     return None if value is None else round(value, digits)
 
@@ -288,17 +295,16 @@ def run(sizes=(10000, 50000, 100000, 200000), shapes=SHAPE_ORDER, reference_time
                     case[f"speedup_vs_{name}"] = round(ref["seconds"] / ours["seconds"], 1)
                     case[f"cpu_speedup_vs_{name}"] = round(ref["cpu_seconds"] / ours["cpu_seconds"], 1)
             cases.append(case)
+            _progress(case)
     incremental = []
     for order_name in incremental_orders:
         result = _in_child(_incremental_child, (order_name, int(incremental_contexts), seed), None)
         result.pop("seconds")
         incremental.append(result)
+        _progress(result)
     return {"suite": "graph", "cases": cases, "incremental": incremental}
 
 
 if __name__ == "__main__":  # pragma: no cover
-    import json
-    import sys
-
     sizes = tuple(int(a) for a in sys.argv[1:]) or (10000, 50000, 100000, 200000)
     print(json.dumps(run(sizes=sizes), indent=2))
