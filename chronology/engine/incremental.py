@@ -71,20 +71,31 @@ def counts_for_order(rel: RelationshipData) -> bool:
     return rel.type in IDENTITY_TYPES and rel.certain
 
 
+def _ids(support) -> tuple:
+    """The relationship ids of an edge's support (one id, or a tuple of them)."""
+    return support if type(support) is tuple else (support,)
+
+
 class IncrementalOrder:
     """Union–find plus a dynamically ordered DAG of merged classes."""
 
     def __init__(self) -> None:
         self._parent: dict[int, int] = {}
         self._size: dict[int, int] = {}
-        self._equal: dict[int, list[tuple[int, int]]] = {}
-        self._out: dict[int, dict[int, set[int]]] = {}
-        self._in: dict[int, dict[int, set[int]]] = {}
+        # Everything held per context or per edge is an int or a tuple, never a
+        # mutable container, so the garbage collector has almost nothing to
+        # traverse however large the record (its full passes would otherwise
+        # be the slowest part of a post).
+        self._equal: dict[int, tuple[tuple[int, int], ...]] = {}
+        # class -> {other class: supporting relationship id, or a tuple of them}
+        self._out: dict[int, dict[int, int | tuple]] = {}
+        self._in: dict[int, dict[int, int | tuple]] = {}
         self._ord: dict[int, int] = {}
         # Least and greatest positions in use (or once used): a moved set with
         # no bound on its far side goes beyond them and ties with nothing.
         self._low = self._high = 0
-        self._relationships: dict[int, RelationshipData] = {}
+        # id -> (type, later, earlier)
+        self._relationships: dict[int, tuple[str, int, int]] = {}
         # The last successful search of ``find_cycle``, reused by ``add``:
         # (earlier class, later class, structure version, Found).
         self._version = 0
@@ -114,7 +125,6 @@ class IncrementalOrder:
             return
         self._parent[ctx] = ctx
         self._size[ctx] = 1
-        self._equal[ctx] = []
         self._out[ctx] = {}
         self._in[ctx] = {}
         self._high += SPACING
@@ -166,12 +176,12 @@ class IncrementalOrder:
         """Apply a relationship already known (by ``find_cycle``) to be consistent."""
         if not counts_for_order(rel) or rel.id in self._relationships:
             return
-        self._relationships[rel.id] = rel
+        self._relationships[rel.id] = (rel.type, rel.later, rel.earlier)
         if rel.type in ORDERED_TYPES:
             self._add_edge(self.find(rel.earlier), self.find(rel.later), rel.id)
         else:
-            self._equal[rel.later].append((rel.earlier, rel.id))
-            self._equal[rel.earlier].append((rel.later, rel.id))
+            self._equal[rel.later] = (*self._equal.get(rel.later, ()), (rel.earlier, rel.id))
+            self._equal[rel.earlier] = (*self._equal.get(rel.earlier, ()), (rel.later, rel.id))
             self._merge(self.find(rel.later), self.find(rel.earlier))
 
     def remove(self, rel_id: int) -> bool:
@@ -183,14 +193,17 @@ class IncrementalOrder:
         rel = self._relationships.get(rel_id)
         if rel is None:
             return True
-        if rel.type not in ORDERED_TYPES:
+        type_, later, earlier = rel
+        if type_ not in ORDERED_TYPES:
             return False
         del self._relationships[rel_id]
-        a, b = self.find(rel.earlier), self.find(rel.later)
+        a, b = self.find(earlier), self.find(later)
         support = self._out[a].get(b)
         if support is not None:
-            support.discard(rel_id)
-            if not support:
+            rest = tuple(r for r in _ids(support) if r != rel_id)
+            if rest:
+                self._out[a][b] = self._in[b][a] = rest[0] if len(rest) == 1 else rest
+            else:
                 del self._out[a][b]
                 del self._in[b][a]
                 self._version += 1
@@ -236,10 +249,11 @@ class IncrementalOrder:
         steps: list[CycleStep] = []
         current = start
         for earlier_class, later_class in reversed(hops):
-            rel = self._relationships[min(self._out[earlier_class][later_class])]
-            steps.extend(self._equality_chain(current, rel.later))
-            steps.append(CycleStep(rel.id, rel.type, rel.later, rel.earlier))
-            current = rel.earlier
+            rel_id = min(_ids(self._out[earlier_class][later_class]))
+            type_, later, earlier = self._relationships[rel_id]
+            steps.extend(self._equality_chain(current, later))
+            steps.append(CycleStep(rel_id, type_, later, earlier))
+            current = earlier
         steps.extend(self._equality_chain(current, end))
         return steps
 
@@ -250,7 +264,7 @@ class IncrementalOrder:
         queue = deque([source])
         while queue and target not in parent:
             node = queue.popleft()
-            for other, rel_id in self._equal[node]:
+            for other, rel_id in self._equal.get(node, ()):
                 if other not in parent:
                     parent[other] = (node, rel_id)
                     queue.append(other)
@@ -258,7 +272,7 @@ class IncrementalOrder:
         node = target
         while node != source:
             prev, rel_id = parent[node]
-            steps.append(CycleStep(rel_id, self._relationships[rel_id].type, prev, node))
+            steps.append(CycleStep(rel_id, self._relationships[rel_id][0], prev, node))
             node = prev
         steps.reverse()
         return steps
@@ -282,11 +296,10 @@ class IncrementalOrder:
         if support is None:
             if self._ord[a] >= self._ord[b]:
                 self._reorder(a, b)
-            support = set()
-            self._out[a][b] = support
-            self._in[b][a] = support
+            self._out[a][b] = self._in[b][a] = rel_id
             self._version += 1
-        support.add(rel_id)
+        elif rel_id not in _ids(support):
+            self._out[a][b] = self._in[b][a] = (*_ids(support), rel_id)
 
     def _reorder(self, a: int, b: int) -> None:
         """Make room for a new edge ``a → b`` against the order: move the smaller side."""
@@ -330,10 +343,10 @@ class IncrementalOrder:
         self._size[x] += self._size.pop(y)
         del self._ord[y]
         for succ, support in outgoing.items():
-            for rel_id in support:
+            for rel_id in _ids(support):
                 self._add_edge(x, succ, rel_id)
         for pred, support in incoming.items():
-            for rel_id in support:
+            for rel_id in _ids(support):
                 self._add_edge(pred, x, rel_id)
 
     def is_topologically_ordered(self) -> bool:
