@@ -45,6 +45,10 @@ def _view(p: DensityPanel) -> tuple[float, float]:
     return lo - pad, hi + pad
 
 
+def _legend_count(panels) -> int:
+    return 3 + any(p.kind == "boundary" for p in panels) + any(p.kind == "undated" for p in panels)
+
+
 def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: int = 3, dpi: int = 110) -> bytes:
     """Render the panels as a grid, ``columns`` wide; SVG or PNG bytes."""
     panels = [p for p in panels if p.density.max() > 0]
@@ -52,7 +56,9 @@ def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: i
         raise ValueError("no event to draw")
     cols = min(columns, len(panels))
     rows = math.ceil(len(panels) / cols)
-    foot = notes_height(heading) + 0.45
+    legend_rows = math.ceil(_legend_count(panels) / 3)
+    # the bottom row's tick labels, then the legend, then the notes
+    foot = notes_height(heading) + 0.45 + 0.2 * legend_rows
     head = 0.75
     height = head + 1.7 * rows + foot
     fig = Figure(figsize=(3.1 * cols + 0.4, height))
@@ -76,7 +82,7 @@ def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: i
         ax.set_yticks([])
         for side in ("left", "right", "top"):
             ax.spines[side].set_visible(False)
-        draw_calendar_axis(ax, *_view(p), max_ticks=4, label=False, fontsize=6.5)
+        draw_calendar_axis(ax, *_view(p), max_ticks=3, label=False, fontsize=6.5)
         ax.set_title(p.label, fontsize=8, loc="left")
     handles = [Patch(facecolor=COLOURS["dated"], alpha=0.25, label="modelled density"),
                Patch(facecolor=COLOURS["dated"], alpha=0.6, label="inside the 95.4% highest-density range"),
