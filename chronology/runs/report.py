@@ -42,7 +42,7 @@ from .report_tables import (
 )
 
 __all__ = ["report_facts", "report_context", "report_html", "render_report", "report_pdf", "html_to_pdf",
-           "ranges_csv", "load_results", "DENSITY_PANELS"]
+           "ranges_csv", "load_results", "DENSITY_PANELS", "REPORT_FILES", "stored_report_file"]
 
 #: Phase boundaries drawn as density panels in the report (the rest are in the interval chart).
 DENSITY_PANELS = 12
@@ -206,3 +206,34 @@ def ranges_csv(results: dict) -> str:
                             "record_revision": results.get("record_revision"), "curves": curves,
                             "synthetic": synthetic, "converged": results.get("converged")})
     return buf.getvalue()
+
+
+#: Files of the report kept in a finished run's folder once made (results never change after the run ends).
+REPORT_FILES = {"report.html": "html", "report.pdf": "pdf", "ranges.csv": "csv"}
+
+
+def stored_report_file(run, name: str):
+    """The path of ``report.html``, ``report.pdf`` or ``ranges.csv`` in the run's folder, made on first use.
+
+    Files are written under a private temporary name and moved into place,
+    so two requests at once never see half a file.
+    """
+    import os
+    import uuid
+
+    if name not in REPORT_FILES:
+        raise ValueError(f"no report file {name!r}")
+    path = run.path(name)
+    if path.exists():
+        return path
+    results = load_results(run)
+    if name == "ranges.csv":
+        data = ranges_csv(results).encode()
+    else:
+        html_path = run.path("report.html")
+        html = html_path.read_text() if html_path.exists() else report_html(run, results)
+        data = html.encode() if name == "report.html" else html_to_pdf(html)
+    tmp = run.path(f".{name}.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp")
+    tmp.write_bytes(data)
+    os.replace(tmp, path)
+    return path
