@@ -26,9 +26,9 @@ import json
 
 from django.template.loader import render_to_string
 
-from chronology.engine.plots.figure_parts import SYNTHETIC_WARNING
+from chronology.engine.plots.figure_parts import SYNTHETIC_WARNING, render
 
-from .figures import density_figure, heading_for, interval_figure
+from .figures import density_grid_of, heading_for, interval_page_figures
 from .report_tables import (
     MODELLED_RESOLUTION,
     combination_notes,
@@ -41,9 +41,12 @@ from .report_tables import (
     structure_lines,
 )
 
-__all__ = ["report_facts", "report_context", "report_html", "render_report", "report_pdf", "html_to_pdf",
+__all__ = ["report_facts", "report_context", "report_html", "render_report", "report_documents", "report_pdf",
+           "html_to_pdf",
            "ranges_csv", "load_results", "DENSITY_PANELS", "REPORT_FILES", "stored_report_file"]
 
+#: Lines of the interval chart on one printed page (a longer chart continues on the next).
+CHART_ROWS = 44
 #: Phase boundaries drawn as density panels in the report (the rest are in the interval chart).
 DENSITY_PANELS = 12
 _CSV_FIELDS = ["event", "phase", "kind", "level", "from", "to", "probability", "text", "text_rounded",
@@ -136,11 +139,27 @@ def _software(results: dict) -> str:
     return f"Tellstack {sw.get('commit') or '(no commit recorded)'}" + (f"; {libs}" if libs else "")
 
 
-def report_context(results: dict, facts: dict) -> dict:
-    """Everything the report template shows, as plain data (no database)."""
-    heading = heading_for(results)
+def _report_figures(results: dict) -> tuple[list, object | None, int]:
+    """(interval chart pages, boundary density panels or None, boundaries left out) as Figures."""
     boundaries = [e["key"] for e in results.get("events", []) if e["kind"] == "boundary"]
     densities = boundaries[:DENSITY_PANELS]
+    pages = interval_page_figures(results, rows_per_page=CHART_ROWS)
+    return pages, density_grid_of(results, densities) if densities else None, len(boundaries) - len(densities)
+
+
+def _embedded(figures, images: str) -> dict:
+    """The report's figures as data URIs in ``images`` format (SVG keeps text as text; PNG prints fast)."""
+    if images not in ("svg", "png"):
+        raise ValueError("images must be 'svg' or 'png'")
+    kind = "image/svg+xml" if images == "svg" else "image/png"
+    pages, densities, left_out = figures
+    return {"charts": [_data_uri(render(fig, images), kind) for fig in pages],
+            "densities": _data_uri(render(densities, images), kind) if densities is not None else None,
+            "densities_left_out": max(0, left_out)}
+
+
+def _content(results: dict, facts: dict) -> dict:
+    heading = heading_for(results)
     return {
         "results": results, "heading": heading, "title": heading.title("Model run report").replace("\n", ": "),
         "synthetic": heading.synthetic, "synthetic_warning": SYNTHETIC_WARNING,
@@ -153,21 +172,36 @@ def report_context(results: dict, facts: dict) -> dict:
         "events": event_rows(results), "modelled_resolution": MODELLED_RESOLUTION,
         "questions": question_rows(results), "outliers": outlier_rows(results),
         "diagnostics": diagnostic_summary(results),
-        "chart": _data_uri(interval_figure(results, "svg")),
-        "densities": _data_uri(density_figure(results, densities, "svg")) if densities else None,
-        "densities_left_out": max(0, len(boundaries) - len(densities)),
     }
 
 
-def render_report(results: dict, facts: dict) -> str:
+def report_context(results: dict, facts: dict, *, images: str = "svg") -> dict:
+    """Everything the report template shows, as plain data (no database).
+
+    ``images`` is the format the figures are embedded in: SVG for the HTML
+    report (text stays text), PNG for the printed one (WeasyPrint places a
+    raster image at once, where it would draw every SVG element itself).
+    """
+    return _content(results, facts) | _embedded(_report_figures(results), images)
+
+
+def render_report(results: dict, facts: dict, *, images: str = "svg") -> str:
     """The self-contained HTML report (figures embedded as data URIs) of ``results`` with ``facts``."""
-    return render_to_string("runs/report.html", report_context(results, facts))
+    return render_to_string("runs/report.html", report_context(results, facts, images=images))
 
 
-def report_html(run, results: dict | None = None) -> str:
+def report_documents(results: dict, facts: dict) -> dict:
+    """The HTML report (SVG figures) and its PDF (the same page with PNG figures), figures drawn once."""
+    content, figures = _content(results, facts), _report_figures(results)
+    html = render_to_string("runs/report.html", content | _embedded(figures, "svg"))
+    printed = render_to_string("runs/report.html", content | _embedded(figures, "png"))
+    return {"html": html, "pdf": html_to_pdf(printed)}
+
+
+def report_html(run, results: dict | None = None, *, images: str = "svg") -> str:
     """The self-contained HTML report of a finished run."""
     results = results or load_results(run)
-    return render_report(results, report_facts(run, results))
+    return render_report(results, report_facts(run, results), images=images)
 
 
 def html_to_pdf(html: str) -> bytes:
@@ -177,9 +211,9 @@ def html_to_pdf(html: str) -> bytes:
     return HTML(string=html).write_pdf()
 
 
-def report_pdf(run, html: str | None = None) -> bytes:
-    """The report of a finished run printed to PDF by WeasyPrint."""
-    return html_to_pdf(html or report_html(run))
+def report_pdf(run, results: dict | None = None) -> bytes:
+    """The report of a finished run printed to PDF by WeasyPrint (figures embedded as PNG)."""
+    return html_to_pdf(report_html(run, results, images="png"))
 
 
 def ranges_csv(results: dict) -> str:
@@ -228,12 +262,13 @@ def stored_report_file(run, name: str):
         return path
     results = load_results(run)
     if name == "ranges.csv":
-        data = ranges_csv(results).encode()
+        made = {name: ranges_csv(results).encode()}
     else:
-        html_path = run.path("report.html")
-        html = html_path.read_text() if html_path.exists() else report_html(run, results)
-        data = html.encode() if name == "report.html" else html_to_pdf(html)
-    tmp = run.path(f".{name}.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp")
-    tmp.write_bytes(data)
-    os.replace(tmp, path)
+        # the HTML and the PDF are made together: they share every table and figure
+        docs = report_documents(results, report_facts(run, results))
+        made = {"report.html": docs["html"].encode(), "report.pdf": docs["pdf"]}
+    for made_name, data in made.items():
+        tmp = run.path(f".{made_name}.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp")
+        tmp.write_bytes(data)
+        os.replace(tmp, run.path(made_name))
     return path

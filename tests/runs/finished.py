@@ -54,7 +54,7 @@ def finished_outputs(media_root, *, seed: int = 7) -> dict:
             results = json.loads(run.path("results.json").read_text())
             facts = report_facts(run, results)
             html = render_report(results, facts)
-            out = {"results": results, "facts": facts, "html": html, "pdf": html_to_pdf(html),
+            out = {"results": results, "facts": facts, "html": html, "pdf": html_to_pdf(render_report(results, facts, images="png")),
                    "csv": ranges_csv(results), "lab_codes": [d.lab_code for d in site["determinations"]],
                    "site": project.name, "plot_svg": run.path("plot.svg").read_bytes()}
             transaction.set_rollback(True)

@@ -20,7 +20,7 @@ from matplotlib.patches import Patch, Rectangle
 from .figure_parts import COLOURS, draw_calendar_axis, draw_notes, notes_height, render
 from .interval_chart import ChartRow
 
-__all__ = ["PairedRow", "ComparisonGroup", "comparison_chart"]
+__all__ = ["PairedRow", "ComparisonGroup", "comparison_chart", "comparison_chart_figure"]
 
 _ROW_IN = 0.34
 
@@ -52,6 +52,11 @@ def _draw(ax, row: ChartRow, y: float, colour: str, marker: str, tag: str) -> No
 
 
 def comparison_chart(groups, first_heading, second_heading, fmt: str = "svg", *, dpi: int = 110) -> bytes:
+    """Render :func:`comparison_chart_figure` as ``svg`` or ``png`` bytes."""
+    return render(comparison_chart_figure(groups, first_heading, second_heading), fmt, dpi)
+
+
+def comparison_chart_figure(groups, first_heading, second_heading) -> Figure:
     """Render two runs' ranges of shared events side by side; SVG or PNG bytes.
 
     ``first_heading`` and ``second_heading`` are the runs'
@@ -115,7 +120,7 @@ def comparison_chart(groups, first_heading, second_heading, fmt: str = "svg", *,
     fig.text(0.02, 1 - 0.1 / height, title, ha="left", va="top", fontsize=10, weight="bold", linespacing=1.3,
              color=COLOURS["warning"] if merged.not_converged else COLOURS["ink"], gid="figure-title")
     draw_notes(fig, merged, height_in=height, width_chars=150)
-    return render(fig, fmt, dpi)
+    return fig
 
 
 def _merged(a, b):

@@ -20,6 +20,7 @@ SUITES = {
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
+    "outputs": "chronology.benchmarks.outputs",
 }
 
 
