@@ -47,8 +47,8 @@ def _draw(ax, row: ChartRow, y: float, colour: str, marker: str, tag: str) -> No
         ax.add_line(Line2D([a, b], [y, y], color=colour, lw=1.0, solid_capstyle="butt", gid=f"{tag}-95.4-{i}"))
     for i, (a, b) in enumerate(row.hpd68):
         ax.add_line(Line2D([a, b], [y, y], color=colour, lw=3.5, solid_capstyle="butt", gid=f"{tag}-68.3-{i}"))
-    ax.plot([row.median], [y], marker=marker, markersize=4.5, color=colour, markerfacecolor="white",
-            markeredgewidth=1.1, zorder=5)
+    ax.add_line(Line2D([row.median], [y], lw=0, marker=marker, markersize=4.5, color=colour, markerfacecolor="white",
+                       markeredgewidth=1.1, zorder=5))
 
 
 def comparison_chart(groups, first_heading, second_heading, fmt: str = "svg", *, dpi: int = 110) -> bytes:
