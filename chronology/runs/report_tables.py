@@ -25,7 +25,8 @@ from chronology.engine.labels import format_probability, label_list
 from chronology.engine.reporting import reported_range, rounding_resolution
 
 __all__ = ["MODELLED_RESOLUTION", "modelled_text", "event_rows", "question_rows", "outlier_rows",
-           "diagnostic_summary", "structure_lines", "quantity_names", "determination_row", "combination_notes"]
+           "diagnostic_summary", "structure_lines", "quantity_names", "determination_row", "combination_notes",
+           "outlier_prior_lines"]
 
 #: Years to which modelled ranges are rounded outwards in the report (common practice).
 MODELLED_RESOLUTION = 5
@@ -179,6 +180,17 @@ def determination_row(fact: dict, calibrated: dict | None) -> dict:
         "cal68": ranges["68.3"], "cal95": ranges["95.4"],
         "resolution": rounding_resolution(sigma),
     }
+
+
+def outlier_prior_lines(determinations, *, limit: int = 12) -> list[str]:
+    """The outlier chances assumed in the version, one line per value, naming the determinations by lab code."""
+    by_value: dict = {}
+    for d in determinations:
+        if d.get("outlier_prior"):
+            by_value.setdefault(float(d["outlier_prior"]), []).append(d["lab_code"])
+    return [f"Chance of being an outlier, assumed {value:g}: "
+            f"{label_list(codes, limit=limit, sort=False, rest=', all listed under Outliers')}"
+            for value, codes in sorted(by_value.items())]
 
 
 def combination_notes(results: dict) -> list[str]:
