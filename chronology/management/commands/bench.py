@@ -23,6 +23,7 @@ SUITES = {
     "sync": "chronology.benchmarks.sync",
     "coverage": "chronology.benchmarks.coverage",
     "evidence": "chronology.benchmarks.evidence",
+    "outputs": "chronology.benchmarks.outputs",
 }
 
 
