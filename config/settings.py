@@ -217,7 +217,9 @@ CELERY_BROKER_TRANSPORT_OPTIONS = {
     "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", TELLSTACK_RUN_MAX_BUDGET_SECONDS + 3600),
 }
 CELERY_BEAT_SCHEDULE = {
-    "sweep-model-runs": {"task": "runs.sweep", "schedule": TELLSTACK_RUN_SWEEP_SECONDS},
+    # a sweep that waited a whole period behind busy workers is dropped: the next one does its work
+    "sweep-model-runs": {"task": "runs.sweep", "schedule": TELLSTACK_RUN_SWEEP_SECONDS,
+                         "options": {"expires": TELLSTACK_RUN_SWEEP_SECONDS}},
 }
 #: Compiled sampler kernels are cached here, so a new worker loads them instead of compiling.
 TELLSTACK_NUMBA_CACHE_DIR = env_str("NUMBA_CACHE_DIR", str(DATA_DIR / "numba-cache"))

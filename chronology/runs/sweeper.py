@@ -7,6 +7,8 @@ or ``celery worker -B``).  Each sweep, for runs that have not ended:
 * a chain whose lease ran out (its worker died or hangs) goes back to the
   queue, or fails the run with ``chain-lost`` once it has been claimed
   ``TELLSTACK_RUN_MAX_ATTEMPTS`` times;
+* with it, the run's chains queued for longer than a lease are sent again
+  (the dead worker may have held their messages too, prefetched);
 * a chain still queued ``TELLSTACK_RUN_RESEND_QUEUED_SECONDS`` after its
   message was sent, in a run no worker is sampling, is sent again (a message
   held by a dead worker only comes back after the broker's visibility
@@ -88,6 +90,7 @@ def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
         if run is None or run.state in TERMINAL_STATES:
             return
         now = timezone.now()
+        lease = timedelta(seconds=leases.lease_seconds())
         for chain in RunChain.objects.select_for_update().filter(run=run, state=ChainState.RUNNING):
             if leases.lease_live(chain, now):
                 continue
@@ -107,8 +110,16 @@ def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
             counts["cancelled"] += 1
             return
         if error is None and resend:
-            send_chains(str(run.pk), resend)
+            # the worker that died may also have held messages of this run's queued chains (prefetched,
+            # never started): those would only come back after the visibility timeout, so send them again
+            # too (a second copy is harmless: the lease turns it away)
+            held = RunChain.objects.filter(run=run, state=ChainState.QUEUED, enqueued_at__lt=now - lease).exclude(
+                index__in=resend)
+            extra = list(held.values_list("index", flat=True))
+            held.update(enqueued_at=now)
+            send_chains(str(run.pk), resend + extra)
             counts["requeued"] += len(resend)
+            counts["resent"] += len(extra)
     if error is not None and fail_run(run_id, error, chain=error.get("chain")):
         counts["failed"] += 1
 

@@ -68,6 +68,17 @@ def test_a_chain_whose_lease_ran_out_goes_back_to_the_queue(queued, monkeypatch,
     assert Run.objects.get(pk=queued.pk).state == RunState.RUNNING
 
 
+def test_the_queued_chains_a_dead_worker_may_have_prefetched_are_sent_again_with_the_lost_one(queued, monkeypatch,
+                                                                                           sent):
+    claim_as(monkeypatch, queued, 0)
+    expire(queued, 0)
+    RunChain.objects.filter(run=queued, index=1).update(enqueued_at=timezone.now() - timedelta(hours=1))
+    sent.clear()
+    counts = sweeper.sweep(requeue=True)
+    assert (counts["requeued"], counts["resent"]) == (1, 1)
+    assert sorted(sent) == [("runs.run_chain", str(queued.pk), 0), ("runs.run_chain", str(queued.pk), 1)]
+
+
 def test_a_chain_whose_worker_still_renews_its_lease_is_left_alone(queued, monkeypatch, sent):
     claim_as(monkeypatch, queued, 0)
     sent.clear()
