@@ -197,7 +197,9 @@ CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
 # heartbeats; the sweeper (Celery beat, every TELLSTACK_RUN_SWEEP_SECONDS)
 # requeues a chain whose lease ran out and fails the run after
 # TELLSTACK_RUN_MAX_ATTEMPTS attempts.  Without a broker there is no beat: the
-# sweep runs when runs are read or listed and when the run command starts.
+# sweep runs on a process's first request and then at most every
+# TELLSTACK_RUN_SWEEP_SECONDS, when runs are read or listed, and when the run
+# command starts; a run whose process stopped ends failed ("interrupted").
 TELLSTACK_RUN_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_LEASE_SECONDS", env_str("TELLSTACK_RUN_STALE_SECONDS", "60")))
 TELLSTACK_RUN_HEARTBEAT_SECONDS = float(env_str("TELLSTACK_RUN_HEARTBEAT_SECONDS", "5"))
 TELLSTACK_RUN_COMBINE_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_COMBINE_LEASE_SECONDS", "600"))
