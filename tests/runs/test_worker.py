@@ -162,6 +162,9 @@ def test_a_run_ends_done_after_the_pool_process_sampling_a_chain_is_killed(site,
     assert all(c.state == ChainState.DONE for c in rows.values())
     assert rows[0].worker != chains[0].worker  # another pool process took the chain over
     assert run.path("samples.nc").exists() and run.path("plot.svg").exists() and run.summary["events"]
+    # each chain's wait for the kernels (warmed when its pool process started) is kept apart from its sampling
+    assert all(c.compile_seconds is not None and c.seconds > 0 for c in rows.values())
+    assert len(run.timings["compile_seconds"]) == len(run.timings["chain_seconds"]) == 2
 
 
 def test_a_run_ends_done_after_the_whole_worker_is_killed_and_a_new_one_starts(site, users, worker):
