@@ -207,3 +207,27 @@ def dead_pid() -> int:
     proc = subprocess.Popen([sys.executable, "-c", "pass"])
     proc.wait()
     return proc.pid
+
+
+def _combine_claimed_by(run, worker, monkeypatch):
+    with monkeypatch.context() as mp:
+        mp.setattr(tasks, "after_chain", lambda *a, **k: "waiting")
+        for k in range(2):
+            tasks.execute_chain(str(run.pk), k)
+    Run.objects.filter(pk=run.pk).update(combining=True, timings={
+        "combine_claimed_at": timezone.now().isoformat(), "combine_worker": worker})
+
+
+def test_a_combine_whose_pool_process_was_killed_is_taken_over_by_the_redelivered_message(queued, monkeypatch):
+    _combine_claimed_by(queued, f"{socket.gethostname()}:{dead_pid()}", monkeypatch)
+    assert tasks.execute_chain(str(queued.pk), 1) == "stored"
+    run = Run.objects.get(pk=queued.pk)
+    assert run.state == RunState.DONE, run.error
+
+
+def test_a_combine_held_by_a_live_process_is_not_taken_over(queued, monkeypatch, sent):
+    _combine_claimed_by(queued, "another-host.invalid:9", monkeypatch)
+    tasks.execute_chain(str(queued.pk), 1)
+    sent.clear()
+    assert sweeper.sweep(requeue=True)["combined"] == 0
+    assert Run.objects.get(pk=queued.pk).state == RunState.RUNNING and sent == []
