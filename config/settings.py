@@ -198,7 +198,9 @@ CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
 # heartbeats; the sweeper (Celery beat, every TELLSTACK_RUN_SWEEP_SECONDS)
 # requeues a chain whose lease ran out and fails the run after
 # TELLSTACK_RUN_MAX_ATTEMPTS attempts.  Without a broker there is no beat: the
-# sweep runs when runs are read or listed and when the run command starts.
+# sweep runs on a process's first request and then at most every
+# TELLSTACK_RUN_SWEEP_SECONDS, when runs are read or listed, and when the run
+# command starts; a run whose process stopped ends failed ("interrupted").
 TELLSTACK_RUN_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_LEASE_SECONDS", env_str("TELLSTACK_RUN_STALE_SECONDS", "60")))
 TELLSTACK_RUN_HEARTBEAT_SECONDS = float(env_str("TELLSTACK_RUN_HEARTBEAT_SECONDS", "5"))
 TELLSTACK_RUN_COMBINE_LEASE_SECONDS = float(env_str("TELLSTACK_RUN_COMBINE_LEASE_SECONDS", "600"))
@@ -218,7 +220,9 @@ CELERY_BROKER_TRANSPORT_OPTIONS = {
     "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", TELLSTACK_RUN_MAX_BUDGET_SECONDS + 3600),
 }
 CELERY_BEAT_SCHEDULE = {
-    "sweep-model-runs": {"task": "runs.sweep", "schedule": TELLSTACK_RUN_SWEEP_SECONDS},
+    # a sweep that waited a whole period behind busy workers is dropped: the next one does its work
+    "sweep-model-runs": {"task": "runs.sweep", "schedule": TELLSTACK_RUN_SWEEP_SECONDS,
+                         "options": {"expires": TELLSTACK_RUN_SWEEP_SECONDS}},
 }
 #: Compiled sampler kernels are cached here, so a new worker loads them instead of compiling.
 TELLSTACK_NUMBA_CACHE_DIR = env_str("NUMBA_CACHE_DIR", str(DATA_DIR / "numba-cache"))

@@ -29,7 +29,7 @@ from .outcomes import cancel_locked
 from .results import load_chain
 
 __all__ = ["lease_seconds", "heartbeat_seconds", "max_attempts", "worker_name", "holder_alive", "lease_live",
-           "Claim", "claim", "renew", "stored_draws", "lost_chain_error"]
+           "held", "Claim", "claim", "renew", "stored_draws", "lost_chain_error"]
 
 
 def lease_seconds() -> float:
@@ -79,6 +79,11 @@ def lease_live(chain: RunChain, now=None) -> bool:
     return chain.state == ChainState.RUNNING and end is not None and end > (now or timezone.now())
 
 
+def held(chain: RunChain, now=None) -> bool:
+    """Someone may still be sampling the chain: its lease holds and its holder is not known to be dead."""
+    return lease_live(chain, now) and holder_alive(chain.worker)
+
+
 def stored_draws(run: Run, k: int) -> int:
     data = load_chain(run, k)
     return 0 if data is None else int(data["draws"].shape[0])
@@ -125,7 +130,7 @@ def claim(run_id, k: int, *, compile_seconds: float | None = None) -> Claim:
             return Claim("skip", run, chain)
         now = timezone.now()
         me = worker_name()
-        if lease_live(chain, now) and chain.worker != me and holder_alive(chain.worker):
+        if chain.worker != me and held(chain, now):
             return Claim("busy", run, chain, have, target - have)
         if chain.state == ChainState.RUNNING and chain.attempts >= max_attempts():
             return Claim("lost", run, chain, have, target - have)

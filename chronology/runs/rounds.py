@@ -7,9 +7,9 @@ grows (more iterations per chain, then more chains) and the chains needing
 work are sent again.  Otherwise the combine step writes the results, and the
 run ends ``done`` with its verdict: converged, or which budget ran out.
 
-A combine claimed longer ago than ``TELLSTACK_RUN_COMBINE_LEASE_SECONDS`` is
-taken over (its worker died), so a redelivered task or the sweeper still
-finishes the run.  The combine is deterministic and writes its files
+A combine claimed longer ago than ``TELLSTACK_RUN_COMBINE_LEASE_SECONDS``, or
+by a process of this host that has ended, is taken over (its worker died), so
+a redelivered task or the sweeper still finishes the run.  The combine is deterministic and writes its files
 atomically; only the first to finish stores the outcome.
 """
 
@@ -22,7 +22,7 @@ from django.conf import settings
 from django.db import transaction
 from django.utils import timezone
 
-from . import convergence
+from . import convergence, leases
 from .dispatch import CHAIN_TASK, send_on_commit
 from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked, crash_error, fail_run
@@ -32,10 +32,13 @@ __all__ = ["after_chain", "finish_round", "combine", "combine_fresh", "send_chai
 
 
 def combine_fresh(run: Run, now=None) -> bool:
-    """A combine of ``run`` was claimed recently enough that its worker may still be at it."""
-    started = (run.timings or {}).get("combine_claimed_at")
+    """A combine of ``run`` was claimed recently enough, by a process not known to be dead, that it may be at it."""
+    timings = run.timings or {}
+    started = timings.get("combine_claimed_at")
     if not run.combining or not started:
         return False
+    if not leases.holder_alive(timings.get("combine_worker", "")):
+        return False  # its process on this host has ended (a killed pool process): take it over now
     age = ((now or timezone.now()) - datetime.fromisoformat(started)).total_seconds()
     return age < float(settings.TELLSTACK_RUN_COMBINE_LEASE_SECONDS)
 
@@ -59,7 +62,8 @@ def after_chain(run_id, *, dispatch: bool = True) -> str:
         if combine_fresh(run, now):
             return "busy"
         run.combining = True
-        run.timings = {**(run.timings or {}), "combine_claimed_at": now.isoformat()}
+        run.timings = {**(run.timings or {}), "combine_claimed_at": now.isoformat(),
+                       "combine_worker": leases.worker_name()}
         run.save(update_fields=["combining", "timings"])
     return finish_round(str(run_id), dispatch=dispatch)
 

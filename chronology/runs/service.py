@@ -37,7 +37,7 @@ from django.db import transaction
 from django.utils import timezone
 
 from .compile import CompiledModel, ModelRefused, compile_version
-from .leases import lease_live
+from .leases import held
 from .models import ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked
 from .rounds import after_chain, combine_fresh, send_chains
@@ -192,7 +192,8 @@ def cancel_run(run: Run) -> Run:
             locked.cancel_requested = True
             locked.save(update_fields=["cancel_requested"])
             now = timezone.now()
-            live = any(lease_live(c, now) for c in RunChain.objects.filter(run=locked, state=ChainState.RUNNING))
+            # a lease held by a process of this host that has ended will never see the request
+            live = any(held(c, now) for c in RunChain.objects.filter(run=locked, state=ChainState.RUNNING))
             if not live and not combine_fresh(locked, now):
                 cancel_locked(locked)
     run.refresh_from_db()

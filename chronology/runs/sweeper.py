@@ -7,6 +7,8 @@ or ``celery worker -B``).  Each sweep, for runs that have not ended:
 * a chain whose lease ran out (its worker died or hangs) goes back to the
   queue, or fails the run with ``chain-lost`` once it has been claimed
   ``TELLSTACK_RUN_MAX_ATTEMPTS`` times;
+* with it, the run's chains queued for longer than a lease are sent again
+  (the dead worker may have held their messages too, prefetched);
 * a chain still queued ``TELLSTACK_RUN_RESEND_QUEUED_SECONDS`` after its
   message was sent, in a run no worker is sampling, is sent again (a message
   held by a dead worker only comes back after the broker's visibility
@@ -16,14 +18,28 @@ or ``celery worker -B``).  Each sweep, for runs that have not ended:
 * a cancel no worker is left to honour is finished.
 
 Without a broker (the embedded set-up) tasks run in the process that asked
-for them, so there is no beat and no one to requeue to: the sweep runs when
-runs are read or listed and when the run command starts, and a run whose
-process stopped (its lease ran out) ends ``failed`` with ``interrupted``;
-``continue`` resumes it from the chains it had stored.
+for them (the request that submitted the run, or the run command), so there
+is no beat and no one to requeue to.  The sweep runs instead:
+
+* on the first request a process serves and then at most every
+  ``TELLSTACK_RUN_SWEEP_SECONDS`` (:func:`sweep_on_request`, connected to
+  ``request_started``), so the API and the pages both see it;
+* whenever the API lists or reads a project's runs;
+* when the run command starts.
+
+A run whose process stopped (the server was restarted or killed, the command
+interrupted) ends ``failed`` with ``interrupted`` and a plain reason:
+at once when its chain was held by a process of this host that no longer
+exists, otherwise when its lease has run out.  ``continue`` resumes it from
+the chains it had stored.  It is not resumed by itself: that would sample
+inside whichever request happened to come next.
 """
 
 from __future__ import annotations
 
+import logging
+import threading
+import time
 from datetime import timedelta
 
 from celery import current_app
@@ -38,9 +54,11 @@ from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked, fail_run
 from .rounds import combine_fresh, send_chains
 
-__all__ = ["sweep", "interrupted_error"]
+__all__ = ["sweep", "interrupted_error", "sweep_if_in_process", "sweep_on_request"]
 
 _ACTIVE = [RunState.QUEUED, RunState.RUNNING]
+
+log = logging.getLogger("chronology.runs")
 
 
 def interrupted_error() -> dict:
@@ -64,7 +82,10 @@ def sweep(*, project=None, requeue: bool | None = None) -> dict:
         Q(lease_expires_at__lt=now) | Q(lease_expires_at__isnull=True, heartbeat_at__lt=now - lease)
         | Q(lease_expires_at__isnull=True, heartbeat_at__isnull=True))
     counts = {"requeued": 0, "failed": 0, "resent": 0, "combined": 0, "cancelled": 0}
-    for run_id in set(expired.values_list("run_id", flat=True)):
+    # a chain whose holder is a process of this host that has ended needs no wait for its lease
+    orphaned = {c.run_id for c in RunChain.objects.filter(run__in=runs, state=ChainState.RUNNING).only(
+        "run_id", "worker") if not leases.holder_alive(c.worker)}
+    for run_id in set(expired.values_list("run_id", flat=True)) | orphaned:
         _sweep_expired(run_id, requeue, counts)
     resend_before = now - timedelta(seconds=float(settings.TELLSTACK_RUN_RESEND_QUEUED_SECONDS))
     waiting = RunChain.objects.filter(run__in=runs, state=ChainState.QUEUED).filter(
@@ -77,7 +98,7 @@ def sweep(*, project=None, requeue: bool | None = None) -> dict:
 
 
 def _live(run: Run, now) -> bool:
-    return any(leases.lease_live(c, now) for c in RunChain.objects.filter(run=run, state=ChainState.RUNNING))
+    return any(leases.held(c, now) for c in RunChain.objects.filter(run=run, state=ChainState.RUNNING))
 
 
 def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
@@ -88,8 +109,9 @@ def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
         if run is None or run.state in TERMINAL_STATES:
             return
         now = timezone.now()
+        lease = timedelta(seconds=leases.lease_seconds())
         for chain in RunChain.objects.select_for_update().filter(run=run, state=ChainState.RUNNING):
-            if leases.lease_live(chain, now):
+            if leases.held(chain, now):
                 continue
             if run.cancel_requested:
                 chain.state = ChainState.CANCELLED
@@ -107,8 +129,16 @@ def _sweep_expired(run_id, requeue: bool, counts: dict) -> None:
             counts["cancelled"] += 1
             return
         if error is None and resend:
-            send_chains(str(run.pk), resend)
+            # the worker that died may also have held messages of this run's queued chains (prefetched,
+            # never started): those would only come back after the visibility timeout, so send them again
+            # too (a second copy is harmless: the lease turns it away)
+            held = RunChain.objects.filter(run=run, state=ChainState.QUEUED, enqueued_at__lt=now - lease).exclude(
+                index__in=resend)
+            extra = list(held.values_list("index", flat=True))
+            held.update(enqueued_at=now)
+            send_chains(str(run.pk), resend + extra)
             counts["requeued"] += len(resend)
+            counts["resent"] += len(extra)
     if error is not None and fail_run(run_id, error, chain=error.get("chain")):
         counts["failed"] += 1
 
@@ -167,3 +197,24 @@ def sweep_if_in_process(project) -> None:
     """With no broker nobody runs the periodic sweep, so reading a project's runs does it."""
     if in_process():
         sweep(project=project)
+
+
+_last_request_sweep = {"at": None}
+_request_sweep_lock = threading.Lock()
+
+
+def sweep_on_request(**_kwargs) -> None:
+    """``request_started`` receiver: without a broker, sweep on a process's first request, then now and then."""
+    if not in_process():
+        return
+    now = time.monotonic()
+    with _request_sweep_lock:
+        last = _last_request_sweep["at"]
+        if last is not None and now - last < float(settings.TELLSTACK_RUN_SWEEP_SECONDS):
+            return
+        _last_request_sweep["at"] = now
+    try:
+        sweep()
+    except Exception:  # the request goes on; the next sweep tries again
+        log.exception("sweeping model runs at the start of a request failed")
+

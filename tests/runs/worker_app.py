@@ -1,9 +1,12 @@
-"""The Celery app a test worker runs: the project's app with short redelivery times.
+"""The Celery app a test worker (and beat) runs: the project's app with a short lease and heartbeat.
 
-A chain's message is acknowledged late; after a worker dies, Redis hands it
-out again once its visibility timeout has passed, and a chain whose
-lease (``TELLSTACK_RUN_LEASE_SECONDS``, renewed by heartbeats) ran out is taken over.  Both
-are shortened here so the worker tests finish in seconds.
+A chain's message is acknowledged late; a chain whose lease
+(``TELLSTACK_RUN_LEASE_SECONDS``, renewed by heartbeats) ran out is requeued
+by the sweeper, which beat sends every ``TELLSTACK_RUN_SWEEP_SECONDS``.  The
+tests shorten the lease, heartbeat and sweep period through the environment
+and may set the broker's visibility timeout
+(``TELLSTACK_TEST_VISIBILITY_TIMEOUT``) so that redelivery by the broker does
+or does not take part.
 """
 
 import os
