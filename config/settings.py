@@ -177,6 +177,11 @@ SPECTACULAR_SETTINGS = {
 DATA_UPLOAD_MAX_MEMORY_SIZE = env_int("TELLSTACK_MAX_BODY_BYTES", 8 * 1024 * 1024)
 TELLSTACK_MAX_JSON_DEPTH = env_int("TELLSTACK_MAX_JSON_DEPTH", 32)
 
+#: How long a request holding an ``Idempotency-Key`` keeps its claim (seconds): longer than
+#: gunicorn's worker timeout (120 s in the compose file), so a retry can claim the key only
+#: once the first request's process is surely gone.
+TELLSTACK_IDEMPOTENCY_LEASE_SECONDS = float(env_str("TELLSTACK_IDEMPOTENCY_LEASE_SECONDS", "150"))
+
 #: Calendar grid step (years) for calibration and models.
 TELLSTACK_CALIBRATION_STEP = float(env_str("TELLSTACK_CALIBRATION_STEP", "1"))
 
