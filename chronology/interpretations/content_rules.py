@@ -224,7 +224,8 @@ def _event_problem(path: str, value: str, keys: set[str], evidence: set[str]) ->
 def _questions(out: _Problems, doc: Mapping, keys: set[str], evidence: set[str]) -> None:
     seen: dict[str, int] = {}
     for i, q in _mapping_items(doc, "questions"):
-        fields = QUESTION_FIELDS.get(q.get("kind"))
+        kind = q.get("kind")
+        fields = QUESTION_FIELDS.get(kind) if isinstance(kind, str) else None  # any other kind is a schema error
         if fields is None:
             continue
         path = f"questions[{i}]"
