@@ -27,6 +27,7 @@ project_urlpatterns = [
     path("", include("api.routes.evidence")),
     path("", include("api.routes.interpretations")),
     path("", include("api.routes.runs")),
+    path("", include("api.routes.exchange")),
 ]
 
 urlpatterns = [

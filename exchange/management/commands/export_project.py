@@ -11,7 +11,7 @@ from pathlib import Path
 
 from django.core.management.base import BaseCommand, CommandError
 
-from exchange.package.writer import write_package
+from exchange.package_jobs import write_to
 
 from ._common import find_project
 
@@ -30,12 +30,7 @@ class Command(BaseCommand):
         path = Path(out)
         if path.parent and not path.parent.exists():
             raise CommandError(f"no directory {path.parent}")
-        partial = path.with_name(path.name + ".partial")
-        try:
-            descriptor = write_package(project, partial)
-            partial.replace(path)
-        finally:
-            partial.unlink(missing_ok=True)
+        descriptor = write_to(project, path)
         rows = sum(r["tellstack:rows"] for r in descriptor["resources"])
         self.stdout.write(f"{project.organisation.slug}:{project.code} revision {descriptor['tellstack:revision']} "
                           f"-> {path} ({path.stat().st_size} bytes, {rows} rows)\n"

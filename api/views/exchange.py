@@ -1,0 +1,96 @@
+"""A project's package out (directly, or through a job for a large project) and back in.
+
+``GET package/`` answers a small project's package at once; for a large one
+it answers 202 with an export job to poll at ``jobs/{id}/``, and the file is
+then at ``package/files/{job}/``.  ``POST package/`` (managers) takes a
+package as the multipart field ``file`` and replays it into this project,
+which must be empty; a refused package is a 400 listing every problem
+(table, row, field, reason) and nothing is written.
+"""
+
+from __future__ import annotations
+
+import tempfile
+
+from django.http import FileResponse
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import OpenApiParameter, extend_schema
+from rest_framework import status
+from rest_framework.parsers import MultiPartParser
+from rest_framework.response import Response
+from rest_framework.views import APIView
+
+from api.errors import ApiError
+from api.serializers.interpretations import JobOut
+from api.views.base import ProjectScopedMixin, truthy
+from chronology.models import Job
+from exchange import package_jobs
+from exchange.package.writer import write_package
+from exchange.replay import import_package
+from exchange.tasks import start_export
+from projects.models import Role
+
+BACKGROUND = OpenApiParameter("background", OpenApiTypes.BOOL,
+                              description="Write the package in a job even for a small project.")
+
+
+def _zip_response(handle, filename: str, descriptor: dict) -> FileResponse:
+    response = FileResponse(handle, content_type="application/zip", as_attachment=True, filename=filename)
+    response["X-Record-Head-Digest"] = descriptor.get("head_digest") or descriptor.get("tellstack:head_digest", "")
+    response["X-Record-Revision"] = str(descriptor.get("revision", descriptor.get("tellstack:revision", "")))
+    return response
+
+
+class PackageView(ProjectScopedMixin, APIView):
+    """The project package: GET exports (200 zip, or 202 with a job), POST imports into an empty project."""
+
+    read_role = Role.VIEWER
+    write_role = Role.MANAGER
+    parser_classes = [MultiPartParser]
+
+    @extend_schema(parameters=[BACKGROUND],
+                   responses={(200, "application/zip"): OpenApiTypes.BINARY, 202: JobOut})
+    def get(self, request, project):
+        found = self.get_project()
+        if truthy(request.query_params.get("background", "false")) or not package_jobs.is_small(found):
+            job = start_export(found, request.user)
+            body = JobOut(job, context={"request": request, "project_ref": project}).data
+            body["file_url"] = f"/api/v1/projects/{project}/package/files/{job.pk}/"
+            return Response(body, status=status.HTTP_202_ACCEPTED, headers={"Location": body["url"]})
+        handle = tempfile.TemporaryFile()  # closed, and so removed, once the response is sent
+        descriptor = write_package(found, handle)
+        handle.seek(0)
+        return _zip_response(handle, package_jobs.file_name(found, descriptor["tellstack:revision"]), descriptor)
+
+    @extend_schema(request={"multipart/form-data": {"type": "object", "properties": {
+        "file": {"type": "string", "format": "binary"}}}}, responses={201: OpenApiTypes.OBJECT})
+    def post(self, request, project):
+        found = self.get_project()
+        upload = request.FILES.get("file")
+        if upload is None:
+            raise ApiError(400, "required", "send the package as the multipart field 'file'", field="file")
+        done = import_package(upload, found, request.user)
+        return Response({
+            "project": found.code, "revision": done.revisions, "source_project": done.source_project,
+            "source_head_digest": done.source_head_digest, "package_sha256": done.package_sha256,
+            "imported_by": request.user.username, "imported_at": done.imported_at,
+            "unknown_actors": done.unknown_actors,
+        }, status=status.HTTP_201_CREATED)
+
+
+class PackageFileView(ProjectScopedMixin, APIView):
+    """The package an export job wrote (409 while the job has not finished)."""
+
+    read_role = Role.VIEWER
+
+    @extend_schema(responses={(200, "application/zip"): OpenApiTypes.BINARY})
+    def get(self, request, project, job):
+        found = self.get_project()
+        row = Job.objects.filter(project=found, pk=job, kind=package_jobs.JOB_KIND).first()
+        if row is None:
+            raise ApiError(404, "not-found", f"no package export job {job} in this project", field="job")
+        path = package_jobs.job_file(row)
+        if path is None:
+            raise ApiError(409, "job-not-done", f"the export job is {row.state}; the file exists once it is done",
+                           field="job", state=row.state)
+        return _zip_response(path.open("rb"), path.name, row.result)
