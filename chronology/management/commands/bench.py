@@ -20,6 +20,8 @@ SUITES = {
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
+    # The package's own suite lives with it (exchange sits above chronology; named here, imported on demand).
+    "exchange": "exchange.benchmark",
 }
 
 
