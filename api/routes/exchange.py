@@ -7,4 +7,5 @@ from api.views import exchange
 urlpatterns = [
     path("package/", exchange.PackageView.as_view(), name="project-package"),
     path("package/files/<uuid:job>/", exchange.PackageFileView.as_view(), name="project-package-file"),
+    path("imports/", exchange.RegisterImportView.as_view(), name="project-register-import"),
 ]

@@ -10,6 +10,7 @@ which must be empty; a refused package is a 400 listing every problem
 
 from __future__ import annotations
 
+import json
 import tempfile
 
 from django.http import FileResponse
@@ -20,12 +21,15 @@ from rest_framework.parsers import MultiPartParser
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
+from api.actor import actor_for
 from api.errors import ApiError
 from api.serializers.interpretations import JobOut
 from api.views.base import ProjectScopedMixin, truthy
 from chronology.models import Job
 from exchange import package_jobs
 from exchange.package.writer import write_package
+from exchange.registers import plan
+from exchange.registers.reading import MAX_BYTES
 from exchange.replay import import_package
 from exchange.tasks import start_export
 from projects.models import Role
@@ -94,3 +98,42 @@ class PackageFileView(ProjectScopedMixin, APIView):
             raise ApiError(409, "job-not-done", f"the export job is {row.state}; the file exists once it is done",
                            field="job", state=row.state)
         return _zip_response(path.open("rb"), path.name, row.result)
+
+
+class RegisterImportView(ProjectScopedMixin, APIView):
+    """A legacy context register (CSV or XLSX) in: a dry run by default, then an all-or-nothing commit.
+
+    Multipart fields: ``file``; ``mapping`` (optional JSON object of our
+    field names to the file's column headers); ``dry_run`` (default true).
+    The dry run answers 200 with every refused row and every contradiction
+    with the cycle it would close; ``dry_run=false`` writes the register as
+    one record revision (201), or nothing (409 listing every problem).
+    """
+
+    write_role = Role.RECORDER
+    parser_classes = [MultiPartParser]
+
+    @extend_schema(request={"multipart/form-data": {"type": "object", "properties": {
+        "file": {"type": "string", "format": "binary"}, "mapping": {"type": "string"},
+        "dry_run": {"type": "boolean"}}}}, responses={200: OpenApiTypes.OBJECT, 201: OpenApiTypes.OBJECT})
+    def post(self, request, project):
+        found = self.get_project()
+        upload = request.FILES.get("file")
+        if upload is None:
+            raise ApiError(400, "required", "send the register as the multipart field 'file'", field="file")
+        mapping = request.data.get("mapping") or None
+        if mapping is not None:
+            try:
+                mapping = json.loads(mapping)
+            except ValueError:
+                raise ApiError(400, "invalid-json", "mapping is a JSON object", field="mapping") from None
+            if not isinstance(mapping, dict) or not all(isinstance(v, str) for v in mapping.values()):
+                raise ApiError(400, "invalid", 'mapping is a JSON object of field names to column headers, such as '
+                               '{"label": "Context no."}', field="mapping")
+        if upload.size > MAX_BYTES:
+            raise ApiError(413, "too-large", f"a register is at most {MAX_BYTES} bytes", field="file", limit=MAX_BYTES)
+        data = upload.read()
+        if truthy(request.data.get("dry_run", "true")):
+            return Response(plan.dry_run(found, data, upload.name, mapping))
+        report = plan.commit(found, actor_for(request), data, upload.name, mapping)
+        return Response(report, status=status.HTTP_201_CREATED if report["revision"] else status.HTTP_200_OK)
