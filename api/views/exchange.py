@@ -13,7 +13,7 @@ from __future__ import annotations
 import json
 import tempfile
 
-from django.http import FileResponse
+from django.http import FileResponse, HttpResponse, JsonResponse
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import status
@@ -26,7 +26,7 @@ from api.errors import ApiError
 from api.serializers.interpretations import JobOut
 from api.views.base import ProjectScopedMixin, truthy
 from chronology.models import Job
-from exchange import package_jobs
+from exchange import linked_data, package_jobs
 from exchange.package.writer import write_package
 from exchange.registers import plan
 from exchange.registers.reading import MAX_BYTES
@@ -137,3 +137,21 @@ class RegisterImportView(ProjectScopedMixin, APIView):
             return Response(plan.dry_run(found, data, upload.name, mapping))
         report = plan.commit(found, actor_for(request), data, upload.name, mapping)
         return Response(report, status=status.HTTP_201_CREATED if report["revision"] else status.HTTP_200_OK)
+
+
+class LinkedDataView(ProjectScopedMixin, APIView):
+    """The record as JSON-LD: CIDOC CRM and CRMarchaeo for the record, PROV-O for its provenance and runs."""
+
+    @extend_schema(responses={(200, "application/ld+json"): OpenApiTypes.OBJECT})
+    def get(self, request, project):
+        found = self.get_project()
+        base = request.build_absolute_uri(f"/api/v1/projects/{found.organisation.slug}:{found.code}/")
+        body = linked_data.to_jsonld(found, base, request.build_absolute_uri("/api/v1/schemas/linked-data-context/"))
+        response = HttpResponse(body, content_type="application/ld+json")
+        response["X-Record-Head-Digest"] = found.head_digest or ""
+        return response
+
+
+def linked_data_context(request):
+    """The published JSON-LD ``@context`` of the record's linked data."""
+    return JsonResponse(linked_data.published_context(), content_type="application/ld+json")
