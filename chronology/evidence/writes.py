@@ -409,11 +409,16 @@ def add_terminus(project: Project, actor: Actor, *, uid=None, **fields) -> Write
 # -- retraction --------------------------------------------------------------
 
 def _repr(kind: str, obj) -> str:
+    """The log's short text for a retraction; no row ids, which are the database's, not the record's."""
     if kind == "sample":
         return f"sample {obj.code}"
     if kind == "determination":
         return obj.lab_code
-    return f"{kind.replace('_', ' ')} {obj.id}"
+    data = _data(kind, obj)
+    if kind == "calendar_date":
+        owner = f"sample {obj.sample.code}" if obj.sample_id else f"context {obj.context.label}"
+        return f"calendar date {data['text']} for {owner}"
+    return f"{obj.context.label} {data['text']} ({obj.find})"[:200]
 
 
 def _retract(changes: ChangeSet, kind: str, obj, reason: str) -> None:

@@ -24,6 +24,8 @@ SUITES = {
     "coverage": "chronology.benchmarks.coverage",
     "evidence": "chronology.benchmarks.evidence",
     "outputs": "chronology.benchmarks.outputs",
+    # The package's own suite lives with it (exchange sits above chronology; named here, imported on demand).
+    "exchange": "exchange.benchmark",
 }
 
 
