@@ -150,6 +150,9 @@ def diagram_parts(order: RecordOrder, phase_of: dict[int, str] | None = None):
     """Diagram nodes and the direct edges of the (acyclic) order."""
     graph = order.graph
     reduction = reduce_order(graph, explain=False)
+    # A node is named by its first context's record id, so a page can open the context a reader clicks
+    # and mark the contexts a comparison names.
+    key = [graph.contexts[graph.members[node][0]].id for node in range(graph.n_nodes)]
     nodes = []
     for node in range(graph.n_nodes):
         ids = graph.node_context_ids(node)
@@ -159,11 +162,12 @@ def diagram_parts(order: RecordOrder, phase_of: dict[int, str] | None = None):
             phase = next((phase_of[i] for i in ids if i in phase_of), None)
         kind = first.kind if first.kind in _KIND_FOR_DIAGRAM else "other"
         nodes.append(DiagramNode(
-            id=node, label=graph.node_label(node), kind=kind, area=first.area or "", phase=phase,
+            id=key[node], label=graph.node_label(node), kind=kind, area=first.area or "", phase=phase,
             members=tuple(graph.label(c) for c in graph.members[node]),
         ))
     edges = [
-        DiagramEdge(graph.edge_earlier[e], graph.edge_later[e], graph.edge_strict[e]) for e in reduction.direct_edges
+        DiagramEdge(key[graph.edge_earlier[e]], key[graph.edge_later[e]], graph.edge_strict[e])
+        for e in reduction.direct_edges
     ]
     return nodes, edges
 

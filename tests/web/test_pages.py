@@ -77,6 +77,15 @@ def test_the_diagram_is_inline_svg_with_clickable_contexts(site, web_client):
     assert "<svg" in html and 'class="context" data-id=' in html and "data-pan-zoom" in html
 
 
+def test_each_box_of_the_diagram_is_named_by_its_contexts_record_id_so_a_click_opens_that_context(site, web_client):
+    import re
+
+    project = site["project"]
+    html = web_client(Role.VIEWER).get(reverse("web:diagram", args=(project.organisation.slug, project.code))).content.decode()
+    boxes = dict(re.findall(r'<g class="context" data-id="(\d+)".*?<text[^>]*>([^<]+)</text>', html, re.S))
+    assert boxes[str(site["contexts"]["1003"].id)] == "1003"
+
+
 def test_the_comparison_shows_the_text_difference_and_two_diagrams(site, web_client):
     project = site["project"]
     url = reverse("web:compare", args=(project.organisation.slug, project.code))
