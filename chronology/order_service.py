@@ -7,6 +7,7 @@ results into what the API and the demo serve: the full check report
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass
 
 from chronology.engine.checks import check_order
@@ -185,11 +186,18 @@ def diagram_svg(order: RecordOrder, *, area: str | None = None, phases=None, pha
         raise OrderError("the record is not acyclic; it cannot be drawn", code="not-acyclic",
                          details={"issues": [i.as_dict() for i in report.errors]}) from None
     if area is not None:
-        parts = {p.key[0]: p for p in split_for_drawing(nodes, edges, max_nodes=len(nodes) + 1, by="area")}
-        if area not in parts:
+        sizes = Counter(node.area for node in nodes)
+        if area not in sizes:
             raise OrderError(f"no area {area!r} in the record", code="unknown-area",
-                             details={"areas": sorted(parts)})
-        nodes, edges = list(parts[area].nodes), list(parts[area].edges)
+                             details={"areas": sorted(a for a in sizes if a)})
+        if len(sizes) > 1:
+            # Parts as large as the largest area: every area is one part, drawn with the order through the others.
+            parts = {p.key[0]: p for p in split_for_drawing(nodes, edges, max_nodes=max(sizes.values()), by="area")}
+            part = parts.get(area)
+            if part is None:
+                raise OrderError(f"area {area!r} cannot be drawn on its own", code="unknown-area",
+                                 details={"areas": sorted(parts)})
+            nodes, edges = list(part.nodes), list(part.edges)
     elif len(nodes) > MAX_DRAWN:
         parts = split_for_drawing(nodes, edges, max_nodes=MAX_DRAWN, by="area")
         raise OrderError(

@@ -105,3 +105,24 @@ def test_a_foreign_determination_id_is_not_found_in_this_project(site, web_clien
     project = site["project"]
     url = reverse("web:determination", args=(project.organisation.slug, project.code, 10**9))
     assert web_client(Role.MANAGER).get(url).status_code == 404
+
+
+def test_a_comparison_too_large_to_draw_says_so_and_links_each_area_of_each_version(site, web_client, monkeypatch):
+    project = site["project"]
+    url = reverse("web:compare", args=(project.organisation.slug, project.code))
+    client = web_client(Role.VIEWER)
+    client.get(url)  # the pages' modules are loaded through the URLs, as in a running server
+    from web import comparison
+
+    monkeypatch.setattr(comparison, "MAX_DRAWN", 3)
+    html = client.get(url + f"?a={site['second'].pk}&b={site['first'].pk}").content.decode()
+    assert "<svg" not in html and "too many to draw side by side" in html
+    assert f"?version={site['first'].pk}&amp;area=A" in html and f"?version={site['second'].pk}&amp;area=A" in html
+
+
+def test_the_diagram_of_a_version_can_be_drawn_one_area_at_a_time(site, web_client):
+    project = site["project"]
+    url = reverse("web:diagram", args=(project.organisation.slug, project.code))
+    html = web_client(Role.VIEWER).get(url + f"?version={site['first'].pk}&area=A").content.decode()
+    assert "cannot be drawn" not in html, html[html.find("cannot be drawn"):][:300]
+    assert "<svg" in html and "area A" in html

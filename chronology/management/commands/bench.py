@@ -20,6 +20,7 @@ SUITES = {
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
+    "pages": "web.benchmarks",
 }
 
 
@@ -46,6 +47,8 @@ class Command(BaseCommand):
                 kwargs["posts"] = posts
         elif contexts and suite in ("graph", "diagram"):
             kwargs["sizes"] = tuple(contexts)
+        elif contexts and suite == "pages":
+            kwargs.update(contexts=contexts[0], relationships=contexts[0] * 5 // 4)
         elif contexts and suite == "alternatives":
             kwargs["contexts"] = contexts[0]
         if quick:
