@@ -26,6 +26,7 @@ SUITES = {
     "outputs": "chronology.benchmarks.outputs",
     # The package's own suite lives with it (exchange sits above chronology; named here, imported on demand).
     "exchange": "exchange.benchmark",
+    "pages": "web.benchmarks",
 }
 
 
@@ -52,6 +53,8 @@ class Command(BaseCommand):
                 kwargs["posts"] = posts
         elif contexts and suite in ("graph", "diagram"):
             kwargs["sizes"] = tuple(contexts)
+        elif contexts and suite == "pages":
+            kwargs.update(contexts=contexts[0], relationships=contexts[0] * 5 // 4)
         elif contexts and suite == "alternatives":
             kwargs["contexts"] = contexts[0]
         if quick:
