@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('projects', '0005_people_log'),
+        ('projects', '0006_idempotency_lease'),
     ]
 
     operations = [
