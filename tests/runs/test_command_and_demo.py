@@ -40,12 +40,14 @@ def test_the_demo_step_writes_the_summary_table_and_plots(site, tmp_path):
 
 @pytest.mark.django_db
 def test_the_demo_outputs_step_writes_the_report_the_ranges_and_the_boundary_densities(site, tmp_path):
+    from chronology.runs.service import run_inline, start_inline
     from demo.run_outputs import outputs_step
 
-    state = {"project": site["version"].project, "approved_version": site["version"], "quick": True,
-             "out": tmp_path, "files": []}
-    model_step(state, io.StringIO())
-    state["files"] = []
+    from .finished import QUICK
+
+    version = site["version"]
+    run = run_inline(start_inline(version.project, version, None, seed=5, **QUICK))  # a short run, as the demo's
+    state = {"project": version.project, "run": run, "out": tmp_path, "files": []}
     outputs_step(state, io.StringIO())
     names = sorted(p.name for p in state["files"])
     assert names == ["model-densities.png", "model-densities.svg", "model-ranges.csv", "model-report.html",
