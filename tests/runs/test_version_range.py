@@ -41,3 +41,15 @@ def test_with_the_default_range_only_an_end_the_evidence_leaves_open_is_pressed(
     # from above but the range, so the range decides that close's ranges
     run = _submit(site, users[Role.ANALYST])
     assert [(p["event"], p["end"]) for p in run.summary["range_check"]["pressed"]] == [("close:late", "latest")]
+
+
+@pytest.mark.django_db
+def test_the_run_report_shows_the_range_warning_with_the_events_pressed(project, site, analyst_actor, users):
+    from chronology.engine.range_pressure import RANGE_WARNING
+    from chronology.runs.report import report_html
+
+    content = dict(site["content"], range={"earliest": -900, "latest": 300})
+    site = dict(site, version=commit_content(project, analyst_actor, content, "Narrow range"))
+    run = _submit(site, users[Role.ANALYST])
+    html = report_html(run)
+    assert RANGE_WARNING.split(":")[0] in html and "Beginning of Early: earliest end" in html
