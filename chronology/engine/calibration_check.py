@@ -21,8 +21,8 @@ The prior draws follow the generative constructions of
   keep every phase inside the range (by rejection, which is exact);
 * members ``iid U(beginning, close)`` of their phase;
 * a terminus is part of the model's prior (a hard bound on its event), so
-  whole draws are rejected until every terminus holds on the grid the model
-  uses (exact truncation).
+  whole draws are rejected until every terminus holds at its exact year, as
+  the model holds it (``Evidence.bound``; exact truncation).
 
 Radiocarbon ages are ``N(mu(t), sigma^2 + sigma_c(t)^2)`` at the grid cell of
 the true date (the model's likelihood is constant inside a cell); under the
@@ -178,15 +178,10 @@ def _overlapping_boundaries(m: int, lo: float, width: float, rng: np.random.Gene
     return out
 
 
-def _cell_middle(design: SiteDesign, t: float) -> float:
-    k = min(max(int(math.floor((t - design.range_lo) / design.step)), 0), design.grid().n - 1)
-    return design.range_lo + design.step * (k + 0.5)
-
-
 def _termini_hold(design: SiteDesign, truth: dict) -> bool:
     for t in design.termini:
-        mid = _cell_middle(design, truth[design.member_key(t.phase, t.member)])
-        if (t.kind == "tpq" and mid < t.year) or (t.kind == "taq" and mid > t.year):
+        value = truth[design.member_key(t.phase, t.member)]
+        if (t.kind == "tpq" and value < t.year) or (t.kind == "taq" and value > t.year):
             return False
     return True
 

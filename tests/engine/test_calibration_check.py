@@ -106,3 +106,10 @@ def test_ranks_are_uniform_with_termini(curve, tmp_path):
 @pytest.mark.slow
 def test_ranks_are_uniform_for_overlapping_phases(curve, tmp_path):
     _check(SiteDesign((3, 3, 3), "overlapping"), curve, tmp_path, entropy=105)
+
+
+@pytest.mark.slow
+def test_ranks_are_uniform_with_termini_inside_grid_cells(curve, tmp_path):
+    # years that fall inside a grid cell: the model holds each exact year as a hard bound
+    termini = (Terminus(2, 0, "tpq", -900.4), Terminus(0, 0, "taq", -999.7))
+    _check(SiteDesign((3, 3, 3), "contiguous", termini=termini), curve, tmp_path, entropy=106)

@@ -36,8 +36,23 @@ def test_a_range_that_cuts_into_the_evidence_is_warned_about_in_the_results(proj
 
 
 @pytest.mark.django_db
-def test_with_the_default_range_only_an_end_the_evidence_leaves_open_is_pressed(site, users):
-    # the late phase has a terminus post quem and one date before it: nothing bounds its close
-    # from above but the range, so the range decides that close's ranges
+def test_with_the_default_range_no_radiocarbon_dated_context_is_pressed(site, users):
+    # the derived range holds the dates' likelihoods with room to spare; only what the evidence
+    # leaves open (the first beginning, the close after a terminus post quem) can reach its ends
     run = _submit(site, users[Role.ANALYST])
-    assert [(p["event"], p["end"]) for p in run.summary["range_check"]["pressed"]] == [("close:late", "latest")]
+    dated = {f"ctx:{site['contexts'][c].id}" for c in ("1001", "1003", "1006")}
+    pressed = {p["event"] for p in run.summary["range_check"]["pressed"]}
+    assert not pressed & dated
+    assert pressed <= {"beginning:early", "close:late", f"ctx:{site['contexts']['1005'].id}"}
+
+
+@pytest.mark.django_db
+def test_the_run_report_shows_the_range_warning_with_the_events_pressed(project, site, analyst_actor, users):
+    from chronology.engine.range_pressure import RANGE_WARNING
+    from chronology.runs.report import report_html
+
+    content = dict(site["content"], range={"earliest": -900, "latest": 300})
+    site = dict(site, version=commit_content(project, analyst_actor, content, "Narrow range"))
+    run = _submit(site, users[Role.ANALYST])
+    html = report_html(run)
+    assert RANGE_WARNING.split(":")[0] in html and "Beginning of Early: earliest end" in html
