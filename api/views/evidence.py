@@ -278,6 +278,10 @@ class CalibrateView(ProjectScopedMixin, APIView):
     @extend_schema(request=CalibrateInput, responses={200: OpenApiTypes.OBJECT, 202: JobOut})
     def post(self, request, project=None):
         """Up to the inline limit the answer comes at once; a larger request answers 202 with its job."""
+        raw = request.data if isinstance(request.data, dict) else {}
+        counts = {name: len(raw[name]) for name in ("values", "determinations") if isinstance(raw.get(name), list)}
+        if counts:  # refused before thousands of items are read one by one
+            limits.check_value_count(sum(counts.values()), field=max(counts, key=counts.get))
         data = CalibrateInput(data=request.data)
         data.is_valid(raise_exception=True)
         params = {**data.validated_data, "values": [dict(v) for v in data.validated_data["values"]]}

@@ -22,6 +22,7 @@ from chronology.engine.plots.calibration_plot import CAUTION, SYNTHETIC_WARNING,
 from projects.record.errors import RecordInvalid
 
 from . import curves as stored_curves
+from . import limits
 from .models import Curve
 
 __all__ = [
@@ -97,6 +98,8 @@ def calibrate_measurements(measurements: list[Measurement], step=None, *, field:
     out: list = [None] * len(measurements)
     groups: dict[tuple, list[int]] = {}
     for index, m in enumerate(measurements):
+        # Also for rows stored before the limit existed: a plot of a 1e300-year error is refused, not attempted.
+        limits.check_error(float(m.sigma), "cra_sigma" if len(measurements) == 1 else f"{field}[{index}]")
         groups.setdefault(m.curve_key, []).append(index)
     for indices in groups.values():
         first = measurements[indices[0]]

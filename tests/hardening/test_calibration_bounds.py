@@ -154,3 +154,12 @@ def test_forgetting_the_curves_empties_the_shared_cache(curve):
     stored_curves.curve_on_grid(curve)
     stored_curves.forget()
     assert shared.bytes == 0
+
+
+def test_a_measurement_with_a_huge_error_is_refused_by_the_calibration_itself(curve):
+    from chronology.evidence.calibrate import Measurement, calibrate_measurements
+    from projects.record.errors import RecordInvalid
+
+    with pytest.raises(RecordInvalid) as refused:
+        calibrate_measurements([Measurement(label="old row", cra=2450, sigma=1e300, curve=curve)])
+    assert (refused.value.code, refused.value.field) == ("error-too-large", "cra_sigma")

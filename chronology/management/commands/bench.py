@@ -18,6 +18,7 @@ SUITES = {
     "diagram": "chronology.benchmarks.diagram",
     "alternatives": "chronology.benchmarks.alternatives",
     "calibration": "chronology.benchmarks.calibration",
+    "calibration-limits": "chronology.benchmarks.calibration_limits",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
     "sync": "chronology.benchmarks.sync",
