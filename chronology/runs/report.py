@@ -26,6 +26,7 @@ import json
 
 from django.template.loader import render_to_string
 
+from chronology.engine.csv_cells import neutralise
 from chronology.engine.plots.figure_parts import SYNTHETIC_WARNING, render
 
 from .figures import density_grid_of, heading_for, interval_page_figures
@@ -222,7 +223,9 @@ def ranges_csv(results: dict) -> str:
     """Every modelled range of every event, one line per range, with the run's provenance on each line.
 
     ``from`` and ``to`` are the exact astronomical years (1 BC = 0);
-    ``text_rounded`` is the range as the report prints it.
+    ``text_rounded`` is the range as the report prints it.  Text cells that a
+    spreadsheet would run as a formula (a phase or label beginning with ``=``)
+    are neutralised (``engine.csv_cells``).
     """
     buf = io.StringIO()
     w = csv.DictWriter(buf, fieldnames=_CSV_FIELDS, lineterminator="\n")
@@ -233,14 +236,14 @@ def ranges_csv(results: dict) -> str:
     for e in results["events"]:
         for level in ("68.3", "95.4"):
             for r in e["hpd"][level]:
-                w.writerow({"event": e["label"], "phase": phases.get(e.get("phase"), ""), "kind": e["kind"],
+                w.writerow({key: neutralise(value) for key, value in {"event": e["label"], "phase": phases.get(e.get("phase"), ""), "kind": e["kind"],
                             "level": level, "from": round(r["from"], 1), "to": round(r["to"], 1),
                             "probability": round(r["probability"], 4), "text": r["text"],
                             "text_rounded": modelled_text(r), "text_cal_bp": r["text_cal_bp"],
                             "median": round(e["median"], 1), "median_text": e["median_text"],
                             "run": results.get("run"), "version": results.get("version_label"),
                             "record_revision": results.get("record_revision"), "curves": curves,
-                            "synthetic": synthetic, "converged": results.get("converged")})
+                            "synthetic": synthetic, "converged": results.get("converged")}.items()})
     return buf.getvalue()
 
 
