@@ -109,7 +109,8 @@ def _peak_mb() -> float:
 def _build(n_contexts: int, n_relationships: int, n_dets: int, n_versions: int, n_runs: int, seed: int):
     from django.contrib.auth import get_user_model
 
-    from chronology.benchmarks.record import _analyze, _site
+    from chronology.benchmarks.site_builder import analyze as _analyze
+    from chronology.benchmarks.site_builder import site_items
     from chronology.engine.curves import curve_to_csv
     from chronology.engine.synthetic_curve import synthetic_curve
     from chronology.evidence import writes as evidence_writes
@@ -136,7 +137,7 @@ def _build(n_contexts: int, n_relationships: int, n_dets: int, n_versions: int, 
     analyst = Actor(user=users[Role.ANALYST], device="bench desk")
     manager = Actor(user=users[Role.MANAGER], device="bench office")
 
-    site_contexts, site_rels, per_area = _site(n_contexts, rng)
+    site_contexts, site_rels, per_area = site_items(n_contexts, seed=seed)
     site_rels = site_rels[:n_relationships]
     for i in range(0, len(site_contexts), CHUNK):
         sync_batch(source, recorder, batch_id=uuid.uuid4(), contexts=site_contexts[i:i + CHUNK])

@@ -26,7 +26,7 @@ from projects.models import ApiToken
 from projects.record import sync as sync_module
 
 from . import sync_poster
-from .site_builder import build_site
+from chronology.benchmarks.site_builder import build_site
 
 QUICK = {"contexts": 2000, "batch": 1000}
 

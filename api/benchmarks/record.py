@@ -25,7 +25,7 @@ from rest_framework.test import APIClient
 
 from projects.models import ApiToken
 
-from .site_builder import build_site
+from chronology.benchmarks.site_builder import build_site
 
 QUICK = {"contexts": 1000, "posts": 200, "reference": 300}
 
