@@ -17,7 +17,6 @@ from django.core.exceptions import ValidationError as DjangoValidationError
 from django.http import Http404
 from rest_framework import exceptions, status
 from rest_framework.response import Response
-from rest_framework.views import exception_handler as drf_exception_handler
 
 from api.request_ids import current_request_id
 from chronology.engine.errors import EngineError
@@ -40,9 +39,10 @@ _DRF_CODES = {
 class ApiError(exceptions.APIException):
     """A 4xx raised by a view with our own code and details."""
 
-    def __init__(self, status_code: int, code: str, message: str, field: str | None = None, **details):
+    def __init__(self, status_code: int, code: str, message: str, field: str | None = None, headers=None, **details):
         super().__init__(message)
         self.status_code = status_code
+        self.headers = headers
         self.error = {"field": field, "code": code, "message": message, **details}
 
 
@@ -93,6 +93,9 @@ def _too_large_error(exc) -> dict:
 
 
 def exception_handler(exc, context):
+    # Imported here: DRF's views module loads the parser classes, and the parsers raise ApiError.
+    from rest_framework.views import exception_handler as drf_exception_handler
+
     if isinstance(exc, (RequestDataTooBig, TooManyFieldsSent)):
         return error_response(status.HTTP_413_REQUEST_ENTITY_TOO_LARGE, [_too_large_error(exc)])
     if isinstance(exc, RecordError):
@@ -100,7 +103,7 @@ def exception_handler(exc, context):
     if isinstance(exc, EngineError):
         return error_response(status.HTTP_409_CONFLICT, [{"field": None, **exc.as_dict()}])
     if isinstance(exc, ApiError):
-        return error_response(exc.status_code, [exc.error])
+        return error_response(exc.status_code, [exc.error], headers=exc.headers)
     if isinstance(exc, AppendOnlyViolation):
         return error_response(status.HTTP_409_CONFLICT, [{"field": None, "code": "immutable", "message": str(exc)}])
     if isinstance(exc, DjangoValidationError):

@@ -5,7 +5,7 @@ from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 from rest_framework.routers import DefaultRouter, SimpleRouter
 
 from api.routes.evidence import global_urlpatterns as evidence_global
-from api.views import health, record, schemas, tenancy
+from api.views import exchange, health, record, schemas, tenancy
 from api.views.token_obtain import TokenObtainView
 
 root = DefaultRouter()
@@ -27,6 +27,8 @@ project_urlpatterns = [
     path("", include("api.routes.evidence")),
     path("", include("api.routes.interpretations")),
     path("", include("api.routes.runs")),
+    path("", include("api.routes.weighing")),
+    path("", include("api.routes.exchange")),
 ]
 
 urlpatterns = [
@@ -35,6 +37,7 @@ urlpatterns = [
     path("v1/projects/<str:project>/", include(project_urlpatterns)),
     path("v1/health/", health.health, name="health"),
     path("v1/schemas/interpretation/", schemas.interpretation_content, name="schema-interpretation"),
+    path("v1/schemas/linked-data-context/", exchange.linked_data_context, name="schema-linked-data-context"),
     path("v1/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("v1/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
     path("v1/auth/token/", TokenObtainView.as_view(), name="token-obtain"),

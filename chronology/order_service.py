@@ -7,6 +7,7 @@ results into what the API and the demo serve: the full check report
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass
 
 from chronology.engine.checks import check_order
@@ -150,6 +151,9 @@ def diagram_parts(order: RecordOrder, phase_of: dict[int, str] | None = None):
     """Diagram nodes and the direct edges of the (acyclic) order."""
     graph = order.graph
     reduction = reduce_order(graph, explain=False)
+    # A node is named by its first context's record id, so a page can open the context a reader clicks
+    # and mark the contexts a comparison names.
+    key = [graph.contexts[graph.members[node][0]].id for node in range(graph.n_nodes)]
     nodes = []
     for node in range(graph.n_nodes):
         ids = graph.node_context_ids(node)
@@ -159,11 +163,12 @@ def diagram_parts(order: RecordOrder, phase_of: dict[int, str] | None = None):
             phase = next((phase_of[i] for i in ids if i in phase_of), None)
         kind = first.kind if first.kind in _KIND_FOR_DIAGRAM else "other"
         nodes.append(DiagramNode(
-            id=node, label=graph.node_label(node), kind=kind, area=first.area or "", phase=phase,
+            id=key[node], label=graph.node_label(node), kind=kind, area=first.area or "", phase=phase,
             members=tuple(graph.label(c) for c in graph.members[node]),
         ))
     edges = [
-        DiagramEdge(graph.edge_earlier[e], graph.edge_later[e], graph.edge_strict[e]) for e in reduction.direct_edges
+        DiagramEdge(key[graph.edge_earlier[e]], key[graph.edge_later[e]], graph.edge_strict[e])
+        for e in reduction.direct_edges
     ]
     return nodes, edges
 
@@ -181,11 +186,18 @@ def diagram_svg(order: RecordOrder, *, area: str | None = None, phases=None, pha
         raise OrderError("the record is not acyclic; it cannot be drawn", code="not-acyclic",
                          details={"issues": [i.as_dict() for i in report.errors]}) from None
     if area is not None:
-        parts = {p.key[0]: p for p in split_for_drawing(nodes, edges, max_nodes=len(nodes) + 1, by="area")}
-        if area not in parts:
+        sizes = Counter(node.area for node in nodes)
+        if area not in sizes:
             raise OrderError(f"no area {area!r} in the record", code="unknown-area",
-                             details={"areas": sorted(parts)})
-        nodes, edges = list(parts[area].nodes), list(parts[area].edges)
+                             details={"areas": sorted(a for a in sizes if a)})
+        if len(sizes) > 1:
+            # Parts as large as the largest area: every area is one part, drawn with the order through the others.
+            parts = {p.key[0]: p for p in split_for_drawing(nodes, edges, max_nodes=max(sizes.values()), by="area")}
+            part = parts.get(area)
+            if part is None:
+                raise OrderError(f"area {area!r} cannot be drawn on its own", code="unknown-area",
+                                 details={"areas": sorted(parts)})
+            nodes, edges = list(part.nodes), list(part.edges)
     elif len(nodes) > MAX_DRAWN:
         parts = split_for_drawing(nodes, edges, max_nodes=MAX_DRAWN, by="area")
         raise OrderError(

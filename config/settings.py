@@ -45,6 +45,7 @@ INSTALLED_APPS = [
     "chronology.evidence",
     "chronology.interpretations",
     "chronology.runs",
+    "chronology.weighing",
     "demo",
     "exchange",
     "api",
@@ -149,6 +150,7 @@ REST_FRAMEWORK = {
     "DEFAULT_THROTTLE_CLASSES": [
         "rest_framework.throttling.UserRateThrottle",
         "rest_framework.throttling.AnonRateThrottle",
+        "api.throttles.RoleScopedThrottle",
     ],
     "DEFAULT_THROTTLE_RATES": {
         "user": env_str("TELLSTACK_THROTTLE_USER", "100000/hour"),
@@ -177,8 +179,18 @@ SPECTACULAR_SETTINGS = {
 DATA_UPLOAD_MAX_MEMORY_SIZE = env_int("TELLSTACK_MAX_BODY_BYTES", 8 * 1024 * 1024)
 TELLSTACK_MAX_JSON_DEPTH = env_int("TELLSTACK_MAX_JSON_DEPTH", 32)
 
-#: Calendar grid step (years) for calibration and models.
+#: How long a request holding an ``Idempotency-Key`` keeps its claim (seconds): longer than
+#: gunicorn's worker timeout (120 s in the compose file), so a retry can claim the key only
+#: once the first request's process is surely gone.
+TELLSTACK_IDEMPOTENCY_LEASE_SECONDS = float(env_str("TELLSTACK_IDEMPOTENCY_LEASE_SECONDS", "150"))
+
+#: Calendar grid step (years) for calibration and models; a request may ask for any of the steps.
 TELLSTACK_CALIBRATION_STEP = float(env_str("TELLSTACK_CALIBRATION_STEP", "1"))
+TELLSTACK_CALIBRATION_STEPS = tuple(float(s) for s in env_str("TELLSTACK_CALIBRATION_STEPS", "0.5,1,2,5,10,20,50,100").split(","))
+#: Bounds on calibration work (see chronology/evidence/limits.py); the curve cache is bounded by bytes.
+TELLSTACK_CURVE_CACHE_BYTES = env_int("TELLSTACK_CURVE_CACHE_BYTES", 64 * 1024 * 1024)
+TELLSTACK_CALIBRATE_INLINE_VALUES = env_int("TELLSTACK_CALIBRATE_INLINE_VALUES", 100)
+TELLSTACK_CALIBRATE_MAX_VALUES = env_int("TELLSTACK_CALIBRATE_MAX_VALUES", 2000)
 
 CACHES = {"default": {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}}
 

@@ -19,7 +19,7 @@ DEMO_SEED = 20240517
 
 
 def model_step(state, stdout):
-    """Model: sample the approved interpretation of VML24 (4 chains, in-process) and write its summary and plots."""
+    """Model: sample the approved interpretation of VML24 (4 chains, in-process) and write its summary and interval chart."""
     from chronology.runs.compile import ModelRefused
     from chronology.runs.service import run_inline, start_inline
     from chronology.runs.sources import current_reading
@@ -50,7 +50,7 @@ def model_step(state, stdout):
     _write(state, "model-results.json", run.path("results.json").read_text())
     _write(state, "model.json", run.path("model.json").read_text())
     for fmt in ("svg", "png"):
-        _write(state, f"model-posterior.{fmt}", run.path(f"plot.{fmt}").read_bytes())
+        _write(state, f"model-interval-chart.{fmt}", run.path(f"plot.{fmt}").read_bytes())
     verdict = "converged" if run.converged else "NOT converged (continue the run for more iterations)"
     stdout.write(f"  run {run.pk}: {len(run.summary['events'])} events, {run.chains} chains, {verdict}; "
                  f"{run.timings.get('wall_seconds') or 0:.1f} s\n")

@@ -75,9 +75,11 @@ class InterpretationReplay:
             if row["parent"] is None:
                 created = self._pending or entry
                 name = row["interpretation"]
+                actors = self.replay.actors
                 _interp, version = self._call(created, lambda actor: services.create_interpretation(
                     self.replay.project, actor, name=name, description=self._descriptions.get(name, ""),
-                    content=content, record_revision=revision, message=entry["message"] or ""))
+                    content=content, record_revision=revision, message=entry["message"] or "",
+                    version_actor=actors.actor(entry, as_importer=actor.user == actors.importer)))
                 self._pending = None
             else:
                 parent = self._version(row["parent"])

@@ -59,6 +59,11 @@ def _url(request, run: Run, name: str = "run-detail", **extra) -> str:
     return request.build_absolute_uri(path) if request is not None else path
 
 
+def run_output_url(request, run: Run, name: str, **extra) -> str:
+    """The URL of one of a run's outputs (``run-report-pdf``, ``run-compare-figure`` ...)."""
+    return _url(request, run, name, **extra)
+
+
 def run_data(run: Run, request=None, *, chains=None) -> dict:
     """The poll view of a run: state, progress per chain, settings, provenance and links."""
     rows = chains if chains is not None else list(run.chain_rows.all())
@@ -118,6 +123,11 @@ def run_data(run: Run, request=None, *, chains=None) -> dict:
             "samples": _url(request, run, "run-samples"),
             "plot_svg": _url(request, run, "run-plot", fmt="svg"),
             "plot_png": _url(request, run, "run-plot", fmt="png"),
+            "report_html": _url(request, run, "run-report-html"),
+            "report_pdf": _url(request, run, "run-report-pdf"),
+            "ranges_csv": _url(request, run, "run-ranges-csv"),
+            "densities_svg": _url(request, run, "run-densities", fmt="svg"),
+            "compare": _url(request, run, "run-compare") + "?with={run}",
             "continue": _url(request, run, "run-continue"),
         })
     elif run.state in ("failed", "cancelled"):

@@ -111,7 +111,10 @@ class DiagramView(ProjectScopedMixin, APIView):
 class ExportView(ProjectScopedMixin, APIView):
     """The order as GraphML, DOT, node-link JSON or CSV of relationships."""
 
-    @extend_schema(parameters=[AT, REDUCED], responses={200: OpenApiTypes.STR})
+    @extend_schema(parameters=[AT, REDUCED], responses={
+        (200, content_type): OpenApiTypes.OBJECT if content_type == "application/json" else OpenApiTypes.STR
+        for content_type, _ext in order_service.EXPORTS.values()
+    })
     def get(self, request, project, fmt):
         found = self.get_project()
         if fmt not in order_service.EXPORTS:

@@ -34,12 +34,15 @@ from api.serializers.evidence import (
     TerminusInput,
     TerminusOut,
 )
+from api.serializers.interpretations import JobOut
 from api.serializers.record import RetractInput
 from api.views.base import DescribedInputMixin, ProjectScopedMixin, ProjectScopedViewSet, truthy
 from chronology.engine.curves import curve_to_csv
-from chronology.evidence import calibrate, writes
+from chronology.evidence import calibrate, calibrate_request, limits, writes
+from chronology.evidence.calibrate_request import measurements_at
 from chronology.evidence.curves import curve_summary, engine_curve, import_curve, may_import, resolve_curve
 from chronology.evidence.models import Curve
+from chronology.evidence.tasks import submit_calibration
 from chronology.evidence.representation import DATA_OF
 from projects.models import Organisation, RecordState, Role
 from projects.record import reads
@@ -52,41 +55,12 @@ STEP = OpenApiParameter("step", OpenApiTypes.NUMBER, description="Calendar grid 
 
 
 def _step(value):
-    if value in (None, ""):
-        return None
-    try:
-        step = float(value)
-    except (TypeError, ValueError):
-        raise RecordInvalid("step must be a number of years", field="step", code="invalid-number") from None
-    if not 0 < step <= 100:
-        raise RecordInvalid("step must lie in (0, 100] years", field="step", code="out-of-range")
-    return step
+    return limits.grid_step(value)
 
 
 def sample_codes(project, revision: int, ids) -> dict[int, str]:
     qs = reads.states(project, "sample", revision).filter(object_id__in=list(ids))
     return {object_id: data["code"] for object_id, data in qs.values_list("object_id", "data")}
-
-
-def measurements_at(project, revision: int, ids, *, field: str = "determinations") -> list[calibrate.Measurement]:
-    """Stored determinations at ``revision`` as calibration input, in the order of ``ids``."""
-    ids = [int(i) for i in ids]
-    found = {s.object_id: s.data for s in reads.states(project, "determination", revision).filter(object_id__in=ids)}
-    missing = [i for i in ids if i not in found]
-    if missing:
-        raise RecordInvalid(f"no determination {missing[0]} at revision {revision}", field=field,
-                            code="unknown-determination", missing=missing)
-    curve_ids = {d["curve_id"] for d in found.values()} | {d["marine_curve_id"] for d in found.values()}
-    curves = {c.pk: c for c in Curve.objects.filter(pk__in=curve_ids - {None}).select_related("table")}
-    out = []
-    for i in ids:
-        d = found[i]
-        out.append(calibrate.Measurement(
-            id=i, label=d["lab_code"], cra=d["cra"], sigma=d["cra_sigma"], curve=curves[d["curve_id"]],
-            delta_r=d["delta_r"], delta_r_sigma=d["delta_r_sigma"], marine_fraction=d["marine_fraction"],
-            marine_fraction_sigma=d["marine_fraction_sigma"], marine_curve=curves.get(d["marine_curve_id"]),
-        ))
-    return out
 
 
 class _EvidenceViewSet(ProjectScopedViewSet):
@@ -96,6 +70,7 @@ class _EvidenceViewSet(ProjectScopedViewSet):
     input_class = None
     add = None
     filters: dict[str, str] = {}
+    throttle_scope: str | None = None  # "heavy" on the calibration and plot actions (api/throttles.py)
 
     def revision(self) -> int:
         if not hasattr(self, "_revision"):
@@ -209,7 +184,7 @@ class SampleViewSet(_EvidenceViewSet):
     list, retrieve, create = _own(_EvidenceViewSet.list), _own(_EvidenceViewSet.retrieve), _own(_EvidenceViewSet.create)
 
     @extend_schema(parameters=[AT, DENSITY, STEP], responses={200: OpenApiTypes.OBJECT})
-    @action(detail=True, methods=["get"])
+    @action(detail=True, methods=["get"], throttle_scope="heavy")
     def combination(self, request, project=None, pk=None):
         """Ward & Wilson (1978) combination of the sample's determinations, calibrated if consistent."""
         self.state_of(pk)
@@ -237,7 +212,7 @@ class DeterminationViewSet(_EvidenceViewSet):
         return measurements_at(self.get_project(), self.revision(), [int(pk)])[0]
 
     @extend_schema(parameters=[AT, DENSITY, STEP], responses={200: OpenApiTypes.OBJECT})
-    @action(detail=True, methods=["get"])
+    @action(detail=True, methods=["get"], throttle_scope="heavy")
     def calibration(self, request, project=None, pk=None):
         """The calibrated date: HPD ranges at 68.3% and 95.4%, median, curve and cautions."""
         m = self._measurement(pk)
@@ -249,7 +224,7 @@ class DeterminationViewSet(_EvidenceViewSet):
 
     @extend_schema(parameters=[AT, STEP, OpenApiParameter("image", OpenApiTypes.STR, enum=["svg", "png"])],
                    responses={(200, "image/svg+xml"): OpenApiTypes.BINARY, (200, "image/png"): OpenApiTypes.BINARY})
-    @action(detail=True, methods=["get"])
+    @action(detail=True, methods=["get"], throttle_scope="heavy")
     def plot(self, request, project=None, pk=None):
         """The calibrated date drawn against its curve, as SVG (default) or PNG (``?image=png``)."""
         image = request.query_params.get("image", "svg")
@@ -298,47 +273,21 @@ class CalibrateView(ProjectScopedMixin, APIView):
     read_role = Role.VIEWER
     write_role = Role.VIEWER  # a calibration reads; it writes nothing
 
-    @extend_schema(request=CalibrateInput, responses={200: OpenApiTypes.OBJECT})
+    throttle_scope = "heavy"
+
+    @extend_schema(request=CalibrateInput, responses={200: OpenApiTypes.OBJECT, 202: JobOut})
     def post(self, request, project=None):
+        """Up to the inline limit the answer comes at once; a larger request answers 202 with its job."""
         data = CalibrateInput(data=request.data)
         data.is_valid(raise_exception=True)
-        body = data.validated_data
+        params = {**data.validated_data, "values": [dict(v) for v in data.validated_data["values"]]}
         project_obj = self.get_project()
-        revision = reads.resolve_revision(project_obj, body["at"])
-        if not body["determinations"] and not body["values"]:
-            raise RecordInvalid("name stored determinations or give values to calibrate", field="determinations",
-                                code="required")
-        measurements = measurements_at(project_obj, revision, body["determinations"])
-        for index, item in enumerate(body["values"]):
-            curve = resolve_curve(item["curve"], project_obj.organisation_id, field=f"values[{index}].curve")
-            marine = None
-            if item.get("marine_curve") not in (None, ""):
-                marine = resolve_curve(item["marine_curve"], project_obj.organisation_id,
-                                       field=f"values[{index}].marine_curve")
-            if not item["error"] > 0:
-                raise RecordInvalid("the error must be positive", field=f"values[{index}].error", code="invalid-error")
-            fraction = item.get("marine_fraction")
-            if fraction is not None and not 0 <= fraction <= 1:
-                raise RecordInvalid("the marine fraction must lie in 0..1", field=f"values[{index}].marine_fraction",
-                                    code="out-of-range")
-            for name in ("delta_r_sigma", "marine_fraction_sigma"):
-                if item.get(name) is not None and item[name] < 0:
-                    raise RecordInvalid("errors must not be negative", field=f"values[{index}].{name}",
-                                        code="invalid-error")
-            measurements.append(calibrate.Measurement(
-                label=item["label"] or f"{item['cra']:g} ± {item['error']:g} BP", cra=item["cra"], sigma=item["error"],
-                curve=curve, delta_r=item.get("delta_r"), delta_r_sigma=item.get("delta_r_sigma"),
-                marine_fraction=fraction, marine_fraction_sigma=item.get("marine_fraction_sigma"),
-                marine_curve=marine,
-            ))
-        step = _step(body["step"])
-        results = calibrate.calibrate_measurements(measurements, step, field="values")
-        return Response({
-            "revision": revision,
-            "results": [calibrate.summarise(m, date, curve, density=body["density"])
-                        for m, (date, curve) in zip(measurements, results)],
-            "caution": calibrate.CAUTION,
-        })
+        revision, found = calibrate_request.measurements(project_obj, params)
+        if calibrate_request.needs_job(found):
+            job = submit_calibration(project_obj, request.user, revision, params)
+            body = JobOut(job, context={"request": request, "project_ref": self.kwargs["project"]}).data
+            return Response(body, status=status.HTTP_202_ACCEPTED, headers={"Location": body["url"]})
+        return Response(calibrate_request.answer(revision, found, params))
 
 
 class CurveViewSet(DescribedInputMixin, viewsets.GenericViewSet):
@@ -347,6 +296,10 @@ class CurveViewSet(DescribedInputMixin, viewsets.GenericViewSet):
     parser_classes = [BoundedJSONParser, MultiPartParser, FormParser]
     lookup_value_regex = r"\d+"
     input_serializers = {"create": CurveImportInput}
+
+    @property
+    def throttle_scope(self):
+        return "heavy" if getattr(self, "action", None) == "create" else None
 
     def get_queryset(self):
         return Curve.objects.visible_to(self.request.user).select_related("table", "organisation").order_by("name", "id")

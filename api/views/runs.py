@@ -5,7 +5,9 @@ refused with its reason (409 for an order conflict, 422 for unusable
 evidence) and no run is made; otherwise the answer is 202 with the run's URL
 to poll.  Results, the compiled model, the samples (NetCDF) and the plots are
 served from the run's folder; every JSON answer carries the caution that
-the dates depend on the model's assumptions.
+the dates depend on the model's assumptions.  The report, the CSV of
+modelled ranges, density panels and comparisons are in
+:mod:`api.views.run_outputs`.
 
 Without a broker (the embedded set-up) there is no Celery beat, so reading or
 listing runs sweeps the project's runs first (:mod:`chronology.runs.sweeper`):
@@ -26,6 +28,7 @@ from api.errors import ApiError
 from api.idempotency import idempotent
 from api.serializers.runs import ContinueInput, RunInput, run_data
 from api.views.base import ProjectScopedViewSet
+from api.views.run_outputs import RunOutputsMixin
 from chronology.runs.compile import ModelRefused
 from chronology.runs.models import Run, RunState
 from chronology.runs.service import cancel_run, continue_run, submit_run
@@ -38,7 +41,7 @@ def _refused(exc: ModelRefused) -> ApiError:
     return ApiError(exc.status, exc.code, exc.message, field=exc.details.pop("field", None), **exc.details)
 
 
-class RunViewSet(ProjectScopedViewSet):
+class RunViewSet(RunOutputsMixin, ProjectScopedViewSet):
     """Model runs of committed interpretation versions."""
 
     lookup_value_regex = r"[0-9a-fA-F-]{36}"

@@ -10,7 +10,7 @@ from chronology.interpretations.content_schema import SCHEMA_VERSION, schema
 
 
 @extend_schema(
-    responses=OpenApiTypes.OBJECT,
+    responses={(200, "application/schema+json"): OpenApiTypes.OBJECT},
     summary="JSON Schema of interpretation content",
     description=f"The content document of an interpretation version (JSON Schema Draft 2020-12, version "
                 f"{SCHEMA_VERSION}). Error codes for each rule are in the `x-codes` annotations.",

@@ -73,6 +73,7 @@ class TokenViewSet(mixins.ListModelMixin, viewsets.GenericViewSet):
     serializer_class = TokenOut
     permission_classes = [permissions.IsAuthenticated]
     queryset = ApiToken.objects.none()
+    lookup_value_regex = r"\d+"
 
     def get_queryset(self):
         return ApiToken.objects.filter(user=self.request.user).order_by("id")

@@ -1,9 +1,15 @@
-"""Benchmark of the chronological-model sampler on two generated models.
+"""Benchmark of the chronological-model sampler on three generated models.
 
 (a) three phases in sequence, 8 dated events each (24 events, 6 boundaries);
 (b) 200 dated events in 10 sequential phases.  Likelihoods are normal on a
-1-year grid (sigma 25 years) around invented true dates.  Sampling time is
-measured apart from the one-off numba compile (or cache load) time.
+1-year grid (sigma 25 years) around invented true dates.
+(c) three phases in sequence, 8 events each, with radiocarbon likelihoods on
+the SYNTHETIC curve (ages simulated at invented true dates, errors 25-35
+years) and stratigraphic order inside each phase (two sequences of four
+members, as two stacks of deposits in one phase would give).
+Sampling time is measured apart from the one-off numba compile (or cache
+load) time, ``compile_seconds``, and, for (c), apart from building the model
+(likelihoods on the grid, compiling and flattening), ``model_seconds``.
 """
 
 from __future__ import annotations
@@ -15,9 +21,13 @@ import numpy as np
 from chronology.engine.diagnostics import diagnose, stack_chains, to_inference_data
 from chronology.engine.grid import CalendarGrid
 from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
-from chronology.engine.sampler import run_chains, warm_up
+from chronology.engine.calibration import curve_on_grid, log_likelihood
+from chronology.engine.sampler import flatten, run_chains, warm_up
+from chronology.engine.synthetic_curve import synthetic_curve
 
-__all__ = ["generated_model", "run"]
+__all__ = ["generated_model", "radiocarbon_model", "run", "QUICK"]
+
+QUICK = {"iterations_a": 2000, "iterations_b": 600}
 
 
 def generated_model(n_phases: int, per_phase: int, *, seed: int = 2024, sigma: float = 25.0):
@@ -39,6 +49,33 @@ def generated_model(n_phases: int, per_phase: int, *, seed: int = 2024, sigma: f
         phases.append(PhaseInput(f"P{j + 1}", tuple(members), "sequential" if j + 1 < n_phases else None))
         t += span + rng.uniform(20, 60)
     return compile_model(grid, phases=phases, order=[], evidence=evidence, range_lo=-1500.0, range_hi=1000.0)
+
+
+def radiocarbon_model(n_phases: int = 3, per_phase: int = 8, *, seed: int = 2025):
+    """Sequential phases dated by radiocarbon on the synthetic curve, with order inside each phase."""
+    rng = np.random.default_rng(seed)
+    grid = CalendarGrid(-1800.0, 1.0, 1601)
+    curve = curve_on_grid(synthetic_curve(), grid)
+    phases, evidence, order = [], [], []
+    t = -1500.0
+    for j in range(n_phases):
+        span = rng.uniform(60, 150)
+        true = rng.uniform(t, t + span, per_phase)
+        members = [f"{j}-{i}" for i in range(per_phase)]
+        # two stacks: members 0..3 and 4..7 each in stratigraphic order (earliest first)
+        for stack in (members[: per_phase // 2], members[per_phase // 2:]):
+            idx = [members.index(m) for m in stack]
+            ranked = [stack[k] for k in np.argsort(true[idx])]
+            order += [(a, b, False) for a, b in zip(ranked, ranked[1:])]
+        for i, d in enumerate(true):
+            k = min(max(int(round(d - grid.start)), 0), grid.n - 1)
+            sigma = rng.uniform(25, 35)
+            age = rng.normal(curve.mu[k], np.sqrt(sigma ** 2 + curve.variance[k]))
+            evidence.append(EvidenceInput(f"VXL-R{j:02d}{i:02d}", members[i], log_likelihood(age, sigma, curve)))
+        phases.append(PhaseInput(f"P{j + 1}", tuple(members), "sequential" if j + 1 < n_phases else None))
+        t += span + rng.uniform(20, 60)
+    return compile_model(grid, phases=phases, order=order, evidence=evidence, range_lo=grid.start,
+                         range_hi=grid.end)
 
 
 def _case(model, n_events: int, chains: int, iterations: int, warmup: int, entropy: int) -> dict:
@@ -66,7 +103,7 @@ def _case(model, n_events: int, chains: int, iterations: int, warmup: int, entro
 
 
 def run(*, iterations_a: int = 20000, iterations_b: int = 6000, chains: int = 4, entropy: int = 20241) -> dict:
-    """Run both cases; returns ``{"suite": "sampler", "cases": [...]}``.
+    """Run the three cases; returns ``{"suite": "sampler", "cases": [...]}``.
 
     ``seconds`` is sampling wall time over all chains (2 worker threads),
     ``compile_seconds`` the kernel compile or cache load, ``ess_per_s`` the
@@ -79,8 +116,19 @@ def run(*, iterations_a: int = 20000, iterations_b: int = 6000, chains: int = 4,
     for n_phases, per_phase, iters in ((3, 8, iterations_a), (10, 20, iterations_b)):
         model = generated_model(n_phases, per_phase)
         case = _case(model, n_phases * per_phase, chains, iters, max(1000, iters // 10), entropy)
+        case["name"] = f"normal-{n_phases}x{per_phase}"
         case["compile_seconds"] = round(compile_seconds, 3)
         cases.append(case)
+    t0 = time.perf_counter()
+    model = radiocarbon_model()
+    flatten(model)
+    model_seconds = time.perf_counter() - t0
+    case = _case(model, 24, chains, iterations_a, max(1000, iterations_a // 10), entropy)
+    case.update({"name": "radiocarbon-with-order", "compile_seconds": round(compile_seconds, 3),
+                 "model_seconds": round(model_seconds, 3),
+                 "constraints_inside_phases": sum(1 for c in model.constraints
+                                                  if c.earlier.startswith("ctx:") and c.later.startswith("ctx:"))})
+    cases.append(case)
     return {"suite": "sampler", "cases": cases}
 
 

@@ -248,7 +248,7 @@ def design_model(design: SiteDesign, ages: list[tuple[str, float, bool]], curve:
     for n, t in enumerate(design.termini):
         fn = terminus_post_quem if t.kind == "tpq" else terminus_ante_quem
         evidence.append(EvidenceInput(f"terminus:{n}", design.member_key(t.phase, t.member),
-                                      fn(grid, t.year).log_values, kind=t.kind))
+                                      fn(grid, t.year).log_values, kind=t.kind, bound=t.year))
     order = ()
     if design.arrangement == "overlapping":
         order = tuple((beginning_key(a), beginning_key(b), False) for a, b in zip(keys, keys[1:]))

@@ -27,6 +27,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .csv_cells import neutralise_fragments
 from .errors import CalibrationError
 from .grid import BP_ORIGIN, CalendarGrid
 
@@ -264,8 +265,9 @@ def curve_to_csv(curve: Curve) -> str:
     Rows run oldest first, as published tables commonly do; floats are written
     with ``repr`` so that they read back exactly.
     """
-    out = [f"# name: {curve.name}", f"# citation: {curve.citation}",
-           f"# licence: {curve.licence}"]
+    # The comment lines are free text a spreadsheet splits at commas: no fragment may start a formula.
+    out = [neutralise_fragments(f"# {key}: {value}")
+           for key, value in (("name", curve.name), ("citation", curve.citation), ("licence", curve.licence))]
     if curve.synthetic:
         out.append("# synthetic: yes")
         out.append("# SYNTHETIC curve: not for dating real samples")

@@ -135,17 +135,21 @@ def radiocarbon_likelihood(grid: CalendarGrid, cra: float, sigma: float,
 def terminus_post_quem(grid: CalendarGrid, year: float, *, label: str = "") -> Likelihood:
     """Not earlier than ``year``: 0 from ``year`` on, ``-inf`` before (a step function).
 
-    ``year`` is astronomical; the grid year equal to it is allowed.
+    ``year`` is astronomical; every cell reaching past it is allowed (the grid
+    year equal to it too).  The model holds the exact year inside its cell as
+    a hard bound on the event (``Evidence.bound``).
     """
     year = _finite("year", year)
-    values = np.where(grid.years >= year, 0.0, -np.inf)
+    values = np.where(grid.years + grid.step / 2 > year, 0.0, -np.inf)
+    values[grid.years == year] = 0.0
     return Likelihood("tpq", values, label, grid, {"year": year})
 
 
 def terminus_ante_quem(grid: CalendarGrid, year: float, *, label: str = "") -> Likelihood:
-    """Not later than ``year``: 0 up to ``year``, ``-inf`` after (a step function)."""
+    """Not later than ``year``: 0 up to ``year``, ``-inf`` after (a step function); see :func:`terminus_post_quem`."""
     year = _finite("year", year)
-    values = np.where(grid.years <= year, 0.0, -np.inf)
+    values = np.where(grid.years - grid.step / 2 < year, 0.0, -np.inf)
+    values[grid.years == year] = 0.0
     return Likelihood("taq", values, label, grid, {"year": year})
 
 

@@ -9,10 +9,10 @@ and ``edgedefault="directed"``.  The node-link form has the shape that
 
 from __future__ import annotations
 
-import csv
 import io
 from xml.sax.saxutils import escape, quoteattr
 
+from .csv_cells import SafeWriter
 from .reduction import Reduction, reduce_order
 from .temporal_graph import TemporalGraph
 
@@ -179,7 +179,7 @@ def to_csv(graph: TemporalGraph, *, reduced: bool = False, reduction: Reduction 
         reduction = reduce_order(graph, explain=False)
     direct = reduction.direct if reduction is not None else None
     buf = io.StringIO()
-    writer = csv.writer(buf, lineterminator="\n")
+    writer = SafeWriter(buf, lineterminator="\n")
     writer.writerow(_CSV_COLUMNS)
     index_of = graph.index_of
     for e in _edges(graph, reduced, reduction):

@@ -8,16 +8,25 @@ few milliseconds whatever the size of the record.  ``IncrementalOrder`` keeps
   explained as a chain of recorded equalities (Tarjan 1975);
 * the digraph between merged classes, each edge listing the recorded
   relationships that support it;
-* a topological order maintained dynamically with the algorithm of Pearce &
-  Kelly (2006): inserting ``a → b`` with ``ord(a) < ord(b)`` costs O(1); only
-  when the order must change is the region between the two positions searched.
+* a topological order kept as integer positions: inserting ``a → b`` with
+  ``pos(a) < pos(b)`` costs O(1); otherwise a two-way search bounded by the
+  positions (Haeupler et al. 2012, in ``incremental_search``) decides the
+  check, and the smaller of the two sets it finds is moved next to the other
+  end, so the order is repaired at the cost of the search.
 
-Because stratigraphy is recorded mostly bottom-up or top-down along a
-sequence, the common case never searches at all, so the cost of a check does
-not grow with the size of the record.
+Whether a team posts bottom-up (earliest first), as it digs (latest first, so
+every post runs against the order made so far) or in no order at all, the
+work of one check is about twice the smaller side of the new edge within the
+window between its ends, not the region between them as in the one-way
+repair of Pearce & Kelly (2006), which is the whole column above the new
+context when a record is posted as it is dug.  A refusal is explained by a
+shortest path found by breadth-first search, as before.
 
 References
 ----------
+Haeupler, B., Kavitha, T., Mathew, R., Sen, S. & Tarjan, R.E. 2012.
+Incremental cycle detection, topological ordering, and strong component
+maintenance. *ACM Transactions on Algorithms* 8(1): 3.
 Pearce, D.J. & Kelly, P.H.J. 2006. A dynamic topological sort algorithm for
 directed acyclic graphs. *ACM Journal of Experimental Algorithmics* 11: 1.7.
 Tarjan, R.E. 1975. Efficiency of a good but not linear set union algorithm.
@@ -29,6 +38,7 @@ from __future__ import annotations
 from collections import deque
 from dataclasses import dataclass
 
+from .incremental_search import SPACING, placements, renumber, two_way_search
 from .record_data import IDENTITY_TYPES, ORDERED_TYPES, RelationshipData
 
 __all__ = ["CycleStep", "IncrementalOrder", "counts_for_order"]
@@ -61,18 +71,35 @@ def counts_for_order(rel: RelationshipData) -> bool:
     return rel.type in IDENTITY_TYPES and rel.certain
 
 
+def _ids(support) -> tuple:
+    """The relationship ids of an edge's support (one id, or a tuple of them)."""
+    return support if type(support) is tuple else (support,)
+
+
 class IncrementalOrder:
     """Union–find plus a dynamically ordered DAG of merged classes."""
 
     def __init__(self) -> None:
         self._parent: dict[int, int] = {}
         self._size: dict[int, int] = {}
-        self._equal: dict[int, list[tuple[int, int]]] = {}
-        self._out: dict[int, dict[int, set[int]]] = {}
-        self._in: dict[int, dict[int, set[int]]] = {}
+        # Everything held per context or per edge is an int or a tuple, never a
+        # mutable container, so the garbage collector has almost nothing to
+        # traverse however large the record (its full passes would otherwise
+        # be the slowest part of a post).
+        self._equal: dict[int, tuple[tuple[int, int], ...]] = {}
+        # class -> {other class: supporting relationship id, or a tuple of them}
+        self._out: dict[int, dict[int, int | tuple]] = {}
+        self._in: dict[int, dict[int, int | tuple]] = {}
         self._ord: dict[int, int] = {}
-        self._next_position = 0
-        self._relationships: dict[int, RelationshipData] = {}
+        # Least and greatest positions in use (or once used): a moved set with
+        # no bound on its far side goes beyond them and ties with nothing.
+        self._low = self._high = 0
+        # id -> (type, later, earlier)
+        self._relationships: dict[int, tuple[str, int, int]] = {}
+        # The last successful search of ``find_cycle``, reused by ``add``:
+        # (earlier class, later class, structure version, Found).
+        self._version = 0
+        self._pending: tuple | None = None
 
     # -- building ---------------------------------------------------------
     @classmethod
@@ -98,11 +125,10 @@ class IncrementalOrder:
             return
         self._parent[ctx] = ctx
         self._size[ctx] = 1
-        self._equal[ctx] = []
         self._out[ctx] = {}
         self._in[ctx] = {}
-        self._ord[ctx] = self._next_position
-        self._next_position += 1
+        self._high += SPACING
+        self._ord[ctx] = self._high
 
     def __contains__(self, ctx: int) -> bool:
         return ctx in self._parent
@@ -128,9 +154,9 @@ class IncrementalOrder:
             if later_root == earlier_root:
                 return [proposed, *self._equality_chain(rel.earlier, rel.later)]
             # Adding earlier -> later closes a cycle iff later already reaches earlier.
-            path = self._path(later_root, earlier_root)
-            if path is None:
+            if not self._reaches(later_root, earlier_root):
                 return None
+            path = self._path(later_root, earlier_root)
             return [proposed, *self._explain(path, start=rel.earlier, end=rel.later)]
         if later_root == earlier_root:
             return None  # the two are already one unit: a redundant equality
@@ -138,8 +164,8 @@ class IncrementalOrder:
             (later_root, earlier_root, rel.later, rel.earlier),
             (earlier_root, later_root, rel.earlier, rel.later),
         ):
-            path = self._path(source, target)
-            if path is not None:
+            if self._ord[source] < self._ord[target] and self._reaches(source, target):
+                path = self._path(source, target)
                 # first ≺ … ≺ second, and the proposal says first = second.
                 step = CycleStep(rel.id, rel.type, first, second)
                 return [step, *self._explain(path, start=second, end=first)]
@@ -150,12 +176,12 @@ class IncrementalOrder:
         """Apply a relationship already known (by ``find_cycle``) to be consistent."""
         if not counts_for_order(rel) or rel.id in self._relationships:
             return
-        self._relationships[rel.id] = rel
+        self._relationships[rel.id] = (rel.type, rel.later, rel.earlier)
         if rel.type in ORDERED_TYPES:
             self._add_edge(self.find(rel.earlier), self.find(rel.later), rel.id)
         else:
-            self._equal[rel.later].append((rel.earlier, rel.id))
-            self._equal[rel.earlier].append((rel.later, rel.id))
+            self._equal[rel.later] = (*self._equal.get(rel.later, ()), (rel.earlier, rel.id))
+            self._equal[rel.earlier] = (*self._equal.get(rel.earlier, ()), (rel.later, rel.id))
             self._merge(self.find(rel.later), self.find(rel.earlier))
 
     def remove(self, rel_id: int) -> bool:
@@ -167,16 +193,20 @@ class IncrementalOrder:
         rel = self._relationships.get(rel_id)
         if rel is None:
             return True
-        if rel.type not in ORDERED_TYPES:
+        type_, later, earlier = rel
+        if type_ not in ORDERED_TYPES:
             return False
         del self._relationships[rel_id]
-        a, b = self.find(rel.earlier), self.find(rel.later)
+        a, b = self.find(earlier), self.find(later)
         support = self._out[a].get(b)
         if support is not None:
-            support.discard(rel_id)
-            if not support:
+            rest = tuple(r for r in _ids(support) if r != rel_id)
+            if rest:
+                self._out[a][b] = self._in[b][a] = rest[0] if len(rest) == 1 else rest
+            else:
                 del self._out[a][b]
                 del self._in[b][a]
+                self._version += 1
         return True
 
     # -- internals ------------------------------------------------------------
@@ -219,10 +249,11 @@ class IncrementalOrder:
         steps: list[CycleStep] = []
         current = start
         for earlier_class, later_class in reversed(hops):
-            rel = self._relationships[min(self._out[earlier_class][later_class])]
-            steps.extend(self._equality_chain(current, rel.later))
-            steps.append(CycleStep(rel.id, rel.type, rel.later, rel.earlier))
-            current = rel.earlier
+            rel_id = min(_ids(self._out[earlier_class][later_class]))
+            type_, later, earlier = self._relationships[rel_id]
+            steps.extend(self._equality_chain(current, later))
+            steps.append(CycleStep(rel_id, type_, later, earlier))
+            current = earlier
         steps.extend(self._equality_chain(current, end))
         return steps
 
@@ -233,7 +264,7 @@ class IncrementalOrder:
         queue = deque([source])
         while queue and target not in parent:
             node = queue.popleft()
-            for other, rel_id in self._equal[node]:
+            for other, rel_id in self._equal.get(node, ()):
                 if other not in parent:
                     parent[other] = (node, rel_id)
                     queue.append(other)
@@ -241,42 +272,58 @@ class IncrementalOrder:
         node = target
         while node != source:
             prev, rel_id = parent[node]
-            steps.append(CycleStep(rel_id, self._relationships[rel_id].type, prev, node))
+            steps.append(CycleStep(rel_id, self._relationships[rel_id][0], prev, node))
             node = prev
         steps.reverse()
         return steps
 
+    def _reaches(self, source: int, target: int) -> bool:
+        """Whether class ``source`` reaches class ``target`` (two-way search).
+
+        When it does not, the search is kept for ``add`` of ``target -> source``.
+        """
+        pos = self._ord
+        if pos[source] > pos[target]:
+            return False
+        found = two_way_search(self._out, self._in, pos, target, source)
+        if found.cycle:
+            return True
+        self._pending = (target, source, self._version, found)
+        return False
+
     def _add_edge(self, a: int, b: int, rel_id: int) -> None:
         support = self._out[a].get(b)
         if support is None:
-            support = set()
-            self._out[a][b] = support
-            self._in[b][a] = support
-            if self._ord[a] > self._ord[b]:
+            if self._ord[a] >= self._ord[b]:
                 self._reorder(a, b)
-        support.add(rel_id)
+            self._out[a][b] = self._in[b][a] = rel_id
+            self._version += 1
+        elif rel_id not in _ids(support):
+            self._out[a][b] = self._in[b][a] = (*_ids(support), rel_id)
 
     def _reorder(self, a: int, b: int) -> None:
-        """Pearce & Kelly (2006): restore a topological order after adding a → b."""
-        lower, upper = self._ord[b], self._ord[a]
-        forward = self._region(b, self._out, lambda pos: pos < upper)
-        backward = self._region(a, self._in, lambda pos: pos > lower)
-        by_position = self._ord.__getitem__
-        moved = sorted(backward, key=by_position) + sorted(forward, key=by_position)
-        positions = sorted(by_position(node) for node in moved)
-        for node, pos in zip(moved, positions):
-            self._ord[node] = pos
-
-    def _region(self, start: int, adjacency, within) -> list[int]:
-        seen = {start}
-        stack = [start]
-        while stack:
-            node = stack.pop()
-            for nxt in adjacency[node]:
-                if nxt not in seen and within(self._ord[nxt]):
-                    seen.add(nxt)
-                    stack.append(nxt)
-        return list(seen)
+        """Make room for a new edge ``a → b`` against the order: move the smaller side."""
+        pending, self._pending = self._pending, None
+        if pending is not None and pending[:3] == (a, b, self._version):
+            found = pending[3]
+        else:
+            found = two_way_search(self._out, self._in, self._ord, a, b)
+        if found.cycle:  # callers check with find_cycle first
+            raise ValueError("the relationship closes a cycle")
+        moves = placements(self._ord, found, a, b, self._low, self._high)
+        if moves is None:
+            self._low, self._high = 0, renumber(self._ord)
+            self._version += 1
+            # Renumbering breaks ties, so the window itself may change: search again.
+            found = two_way_search(self._out, self._in, self._ord, a, b)
+            moves = placements(self._ord, found, a, b, self._low, self._high)
+        for node, position in moves:
+            self._ord[node] = position
+        first, last = moves[0][1], moves[-1][1]
+        if first < self._low:
+            self._low = first
+        if last > self._high:
+            self._high = last
 
     def _merge(self, x: int, y: int) -> None:
         if x == y:
@@ -291,14 +338,15 @@ class IncrementalOrder:
             del self._in[succ][y]
         for pred in incoming:
             del self._out[pred][y]
+        self._version += 1
         self._parent[y] = x
         self._size[x] += self._size.pop(y)
         del self._ord[y]
         for succ, support in outgoing.items():
-            for rel_id in support:
+            for rel_id in _ids(support):
                 self._add_edge(x, succ, rel_id)
         for pred, support in incoming.items():
-            for rel_id in support:
+            for rel_id in _ids(support):
                 self._add_edge(pred, x, rel_id)
 
     def is_topologically_ordered(self) -> bool:

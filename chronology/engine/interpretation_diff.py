@@ -219,12 +219,19 @@ def diff_interpretations(old: Mapping, new: Mapping, *, old_revision: int | None
         "record_revision": (
             {"from": old_revision, "to": new_revision} if old_revision != new_revision else None
         ),
+        "range": (
+            {"from": old.get("range"), "to": new.get("range")} if old.get("range") != new.get("range") else None
+        ),
     }
     diff["identical"] = is_empty_diff(diff)
     return diff
 
 
 # -- text ---------------------------------------------------------------------
+
+
+def _range_text(r) -> str:
+    return "derived from the evidence" if not r else f"{r['earliest']:g} to {r['latest']:g} (astronomical years)"
 
 
 def _ctx(labels: Mapping, cid) -> str:
@@ -349,6 +356,9 @@ def diff_text(diff: Mapping, *, labels: Mapping | None = None, relationships: Ma
     for e in ev["changed"]:
         lines.append(f"Evidence {e['evidence']}: {e['from']['use']} (outlier prior {e['from']['outlier_prior']}) → "
                      f"{e['to']['use']} (outlier prior {e['to']['outlier_prior']})")
+    rg = diff.get("range")
+    if rg is not None:
+        lines.append(f"Overall range: {_range_text(rg['from'])} → {_range_text(rg['to'])}")
     es = diff["estimate"]
     for c in es["added"]:
         lines.append(f"Undated context to estimate: {_ctx(labels, c)}")

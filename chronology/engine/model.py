@@ -110,6 +110,7 @@ MODEL_JSON_SCHEMA: dict = {
                                 "loglik": _LOGLIK_ARRAY,
                                 "outlier_loglik": {"anyOf": [_LOGLIK_ARRAY, {"type": "null"}]},
                                 "outlier_prior": {"type": "number", "minimum": 0, "maximum": 1},
+                                "bound": {"type": ["number", "null"]},
                             },
                         },
                     },
@@ -189,6 +190,10 @@ class Evidence:
         Prior probability that the term is an outlier (0 when not modelled).
     label, kind : str
         Display label and evidence kind (``radiocarbon``, ``calendar`` ...).
+    bound : float or None
+        For a terminus (``tpq``/``taq``), its exact year: a hard bound the
+        sampler holds inside the grid cell that contains it (the log-likelihood
+        alone bounds the event only to whole cells).
     """
 
     key: str
@@ -197,13 +202,14 @@ class Evidence:
     outlier_prior: float = 0.0
     label: str = ""
     kind: str = "radiocarbon"
+    bound: float | None = None
 
     @property
     def has_outlier_model(self) -> bool:
         return self.outlier_loglik is not None and self.outlier_prior > 0.0
 
     def as_dict(self) -> dict:
-        return {
+        out = {
             "key": self.key,
             "label": self.label,
             "kind": self.kind,
@@ -211,6 +217,9 @@ class Evidence:
             "outlier_loglik": _encode_loglik(self.outlier_loglik),
             "outlier_prior": float(self.outlier_prior),
         }
+        if self.bound is not None:
+            out["bound"] = float(self.bound)
+        return out
 
     @classmethod
     def from_dict(cls, d: dict) -> "Evidence":
@@ -221,6 +230,7 @@ class Evidence:
             outlier_prior=float(d.get("outlier_prior", 0.0)),
             label=d.get("label", ""),
             kind=d.get("kind", "radiocarbon"),
+            bound=None if d.get("bound") is None else float(d["bound"]),
         )
 
 

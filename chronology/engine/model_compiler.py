@@ -86,6 +86,7 @@ class EvidenceInput:
     outlier_loglik: np.ndarray | None = None
     label: str = ""
     kind: str = "radiocarbon"
+    bound: float | None = None
 
 
 @dataclass(frozen=True)
@@ -235,7 +236,8 @@ def compile_model(
         oll = None
         if ev.outlier_loglik is not None and ev.outlier_prior > 0:
             oll = _check_array(ev.key, ev.outlier_loglik, grid.n)
-        term = Evidence(ev.key, ll, oll, float(ev.outlier_prior) if oll is not None else 0.0, ev.label, ev.kind)
+        term = Evidence(ev.key, ll, oll, float(ev.outlier_prior) if oll is not None else 0.0, ev.label, ev.kind,
+                        None if ev.bound is None else float(ev.bound))
         contexts.setdefault(ev.context, None)
         if ev.usage == "included":
             direct[ev.context].append(term)

@@ -23,10 +23,20 @@ distinct boundaries ``b_(1) <= ... <= b_(k)`` and total span
 density is ``(R - S)^-1 S^-(k-2) prod_j (beta_j - alpha_j)^-n_j`` up to a
 constant.  Contiguous chains of ``m`` phases have ``k = m + 1`` boundaries and
 sequential ones ``k = 2m``, which gives the published exponents ``S^-(m-1)``
-and ``S^-(2m-2)`` (Nicholls & Jones 2001).  Overlapping phases start a new
-chain; their asserted cross-phase order, like any cross-phase stratigraphic
-constraint, makes the span only approximately uniform, which is why a
-prior-only run should always be offered.
+and ``S^-(2m-2)`` (Nicholls & Jones 2001).
+
+Overlapping phases start a new chain.  When the beginnings of consecutive
+chains are asserted in order (``beginning_j <= beginning_j+1``, as a version's
+``overlapping`` arrangement compiles), the chains form one *group* and the
+factor ``prod_j (R - S_j)^-1`` is replaced by ``1 / V(R - S_1, ..., R - S_m)``,
+the volume of the ordered beginnings that keep every chain inside the range
+(:mod:`chronology.engine.ordered_volume`, Steck 1971).  Then, generating each
+``S_j ~ U(0, R)`` independently, the beginnings uniformly on that ordered set
+and the rest as above gives exactly this density, so every span stays
+uniform on ``[0, R]`` despite the asserted order (derivation in
+``docs/statistics.md``).  Other cross-phase stratigraphic constraints still
+make the spans only approximately uniform, which is why a prior-only run
+should always be offered.
 
 With ``prior="uniform"`` the boundaries carry no factor at all: the plain
 order prior of Buck, Litton & Smith (1992), which lengthens phases (§4.2 of
@@ -40,11 +50,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from chronology.engine.model import Model
+from chronology.engine.ordered_volume import log_ordered_volume
 
 __all__ = [
     "PriorStructure",
     "prior_structure",
     "log_prior",
+    "group_log_volume",
     "log_one_phase_prior",
     "sample_one_phase_prior",
 ]
@@ -57,7 +69,10 @@ class PriorStructure:
     ``phase_start``/``phase_end``/``phase_n``: per phase, event indices of the
     boundaries and its member count.  ``block_first``/``block_last``/``block_k``:
     per chain of linked phases, the indices of its first and last boundary and
-    its number of distinct boundaries.  ``active`` is False for the uniform prior.
+    its number of distinct boundaries.  ``group_ptr``/``group_blocks``: per
+    group of chains with ordered beginnings, its chains in order (CSR);
+    ``block_group`` the group of each chain.  ``active`` is False for the
+    uniform prior.
     """
 
     active: bool
@@ -68,6 +83,9 @@ class PriorStructure:
     block_first: np.ndarray
     block_last: np.ndarray
     block_k: np.ndarray
+    block_group: np.ndarray
+    group_ptr: np.ndarray
+    group_blocks: np.ndarray
 
 
 def prior_structure(model: Model) -> PriorStructure:
@@ -86,6 +104,7 @@ def prior_structure(model: Model) -> PriorStructure:
     index = {k: i for i, k in enumerate(model.event_keys)}
     ps, pe, pn = [], [], []
     bf, bl, bk = [], [], []
+    link: list = []  # per chain: its last phase's link to the next chain
     chain: list = []
 
     def close(chain):
@@ -99,6 +118,7 @@ def prior_structure(model: Model) -> PriorStructure:
         bf.append(index[chain[0].start])
         bl.append(index[chain[-1].end])
         bk.append(len(keys))
+        link.append(chain[-1].arrangement_next)
 
     for p in model.phases:
         ps.append(index[p.start])
@@ -109,6 +129,21 @@ def prior_structure(model: Model) -> PriorStructure:
             close(chain)
             chain = []
     close(chain)
+    # chains whose beginnings are asserted in order form one group
+    ordered = {(c.earlier, c.later) for c in model.constraints}
+    keys = model.event_keys
+    groups: list[list[int]] = []
+    for b in range(len(bf)):
+        if b > 0 and link[b - 1] == "overlapping" and (keys[bf[b - 1]], keys[bf[b]]) in ordered:
+            groups[-1].append(b)
+        else:
+            groups.append([b])
+    block_group = [0] * len(bf)
+    gptr = [0]
+    for g, members in enumerate(groups):
+        for b in members:
+            block_group[b] = g
+        gptr.append(gptr[-1] + len(members))
     as_int = lambda v: np.asarray(v, dtype=np.int64)  # noqa: E731
     return PriorStructure(
         active=(model.prior == "span-uniform"),
@@ -119,6 +154,9 @@ def prior_structure(model: Model) -> PriorStructure:
         block_first=as_int(bf),
         block_last=as_int(bl),
         block_k=as_int(bk),
+        block_group=as_int(block_group),
+        group_ptr=as_int(gptr),
+        group_blocks=as_int([b for g in groups for b in g]),
     )
 
 
@@ -150,8 +188,18 @@ def log_prior(structure: PriorStructure, x: np.ndarray) -> float:
         S = x[l] - x[f]
         if S <= 0.0 or S >= R:
             return -np.inf
-        total -= np.log(R - S) + (k - 2) * np.log(S)
+        total -= (k - 2) * np.log(S)
+    for g in range(len(structure.group_ptr) - 1):
+        total -= group_log_volume(structure, g, x)
     return float(total)
+
+
+def group_log_volume(structure: PriorStructure, g: int, x: np.ndarray) -> float:
+    """Log volume of the ordered beginnings group ``g`` leaves room for at state ``x``."""
+    blocks = structure.group_blocks[structure.group_ptr[g]:structure.group_ptr[g + 1]]
+    R = structure.range_width
+    rooms = np.array([R - (x[structure.block_last[b]] - x[structure.block_first[b]]) for b in blocks])
+    return float(log_ordered_volume(rooms, R))
 
 
 def log_one_phase_prior(alpha: float, beta: float, n: int, lo: float, hi: float) -> float:

@@ -250,13 +250,17 @@ def reduce_order(graph: TemporalGraph, *, explain: bool = True) -> Reduction:
         keep, via = _sweep(graph, explain)
         direct_edges = tuple(e for e, k in enumerate(keep) if k)
         redundant: list[RedundantRelationship] = []
+        add = redundant.append
+        edge_rels, edge_extras, get_via = graph.edge_relationships, graph.edge_extras, via.get
         for e, k in enumerate(keep):
             if k:
                 continue
-            w = via.get(e)
-            redundant.extend(RedundantRelationship(rid, e, w) for rid in graph.edge_relationships[e])
-            redundant.extend(RedundantRelationship(graph.extras[x].ref, e, w, recorded=False)
-                             for x in graph.edge_extras[e])
+            w = get_via(e)
+            for rid in edge_rels[e]:
+                add(RedundantRelationship(rid, e, w))
+            if edge_extras[e]:
+                redundant.extend(RedundantRelationship(graph.extras[x].ref, e, w, recorded=False)
+                                 for x in edge_extras[e])
         return Reduction(direct=tuple(keep), direct_edges=direct_edges, redundant=tuple(redundant))
 
 

@@ -90,6 +90,8 @@ def run_chain(
     cancel: Callable[[], bool] | None = None,
     check_every: int = 1000,
     block_every: int = 1,
+    initial: np.ndarray | None = None,
+    initial_outliers: np.ndarray | None = None,
 ) -> ChainResult:
     """Run ONE chain and return its kept draws.
 
@@ -114,6 +116,10 @@ def run_chain(
         with :class:`~chronology.engine.errors.SamplingCancelled`.
     block_every : int
         Whole-phase shift and scale moves every ``block_every`` sweeps.
+    initial, initial_outliers : numpy.ndarray, optional
+        A valid state to start from (event values in model order, and the
+        outlier indicators), e.g. the last draw of another chain of the same
+        model; by default a dispersed state along a random linear extension.
 
     Returns
     -------
@@ -126,12 +132,14 @@ def run_chain(
     state = seed.generate_state(4, dtype=np.uint64)
     if not state.any():
         state[0] = 1
-    x = initial_state(f, rng_py)
+    x = initial_state(f, rng_py) if initial is None else np.array(initial, dtype=float)
     initial = x.copy()
     nd = len(f.evidence_keys)
     phi = np.zeros(nd, dtype=np.int8)
     q = np.exp(f.det_logq)
     phi[:] = rng_py.uniform(size=nd) < q
+    if initial_outliers is not None:
+        phi[:] = np.asarray(initial_outliers, dtype=np.int8)
     n_keep = iterations // thin
     out_x = np.empty((n_keep, f.n_events))
     out_phi = np.empty((n_keep, nd), dtype=np.int8)

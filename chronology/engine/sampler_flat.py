@@ -53,6 +53,9 @@ class FlatModel:
     block_first: np.ndarray
     block_last: np.ndarray
     block_k: np.ndarray
+    block_group: np.ndarray
+    group_ptr: np.ndarray
+    group_blocks: np.ndarray
     node_phase_ptr: np.ndarray
     node_phase_idx: np.ndarray
     node_block_ptr: np.ndarray
@@ -65,6 +68,8 @@ class FlatModel:
     earliest: np.ndarray
     latest: np.ndarray
     topo: np.ndarray
+    hard_lo: np.ndarray
+    hard_hi: np.ndarray
 
     @property
     def n_events(self) -> int:
@@ -146,6 +151,9 @@ def flatten(model: Model) -> FlatModel:
         if np.isfinite(m):
             c = np.concatenate(([0.0], np.cumsum(np.exp(static_ll[r] - m))))
             static_cdf[r] = c / c[-1]
+    hard_lo, hard_hi = _hard_bounds(model, index)
+    earliest, latest = _tightened(np.asarray(earliest, dtype=float), np.asarray(latest, dtype=float),
+                                  hard_lo, hard_hi, topo, preds, succs)
     pstruct = prior_structure(model)
     shift_sets = []
     for p in model.phases:
@@ -183,10 +191,40 @@ def flatten(model: Model) -> FlatModel:
         phase_start=pstruct.phase_start, phase_end=pstruct.phase_end, phase_n=pstruct.phase_n,
         shift_ptr=shp, shift_idx=shi,
         block_first=pstruct.block_first, block_last=pstruct.block_last, block_k=pstruct.block_k,
+        block_group=pstruct.block_group, group_ptr=pstruct.group_ptr, group_blocks=pstruct.group_blocks,
         node_phase_ptr=npp, node_phase_idx=npi, node_block_ptr=nbp, node_block_idx=nbi,
         prior_active=bool(pstruct.active), lo=float(model.range_lo), hi=float(model.range_hi),
         left=float(g.start - g.step / 2), step=float(g.step),
-        earliest=np.asarray(earliest, dtype=float), latest=np.asarray(latest, dtype=float),
-        topo=np.asarray(topo, dtype=np.int64),
+        earliest=earliest, latest=latest,
+        topo=np.asarray(topo, dtype=np.int64), hard_lo=hard_lo, hard_hi=hard_hi,
     )
+
+
+def _hard_bounds(model: Model, index: dict) -> tuple[np.ndarray, np.ndarray]:
+    """Exact years of termini not under the outlier model: hard bounds inside their grid cells."""
+    n = len(index)
+    lo, hi = np.full(n, -np.inf), np.full(n, np.inf)
+    for e in model.events:
+        for t in e.evidence:
+            if t.bound is None or t.has_outlier_model:
+                continue
+            i = index[e.key]
+            if t.kind == "tpq":
+                lo[i] = max(lo[i], t.bound)
+            elif t.kind == "taq":
+                hi[i] = min(hi[i], t.bound)
+    return lo, hi
+
+
+def _tightened(earliest, latest, hard_lo, hard_hi, topo, preds, succs):
+    """Feasible bounds with the hard bounds carried along the order (successors of a bound event too)."""
+    earliest = np.maximum(earliest, hard_lo)
+    latest = np.minimum(latest, hard_hi)
+    for v in topo:
+        for p in preds[v]:
+            earliest[v] = max(earliest[v], earliest[p])
+    for v in reversed(list(topo)):
+        for s in succs[v]:
+            latest[v] = min(latest[v], latest[s])
+    return earliest, latest
 

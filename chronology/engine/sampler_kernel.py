@@ -29,9 +29,9 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                  kind, pred_ptr, pred_idx, succ_ptr, succ_idx, row, static_ll, static_cdf,
                  det_ptr, det_in, det_out, det_logq, det_log1mq, det_node,
                  phase_start, phase_end, phase_n, shift_ptr, shift_idx,
-                 block_first, block_last, block_k,
+                 block_first, block_last, block_k, block_group, group_ptr, group_blocks,
                  node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                 prior_active, L, U, left, step, it0, block_every, log_tau):
+                 prior_active, L, U, left, step, hard_lo, hard_hi, it0, block_every, log_tau):
     N = x.shape[0]
     G = static_ll.shape[1]
     R = U - L
@@ -43,6 +43,10 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
         # --- single-site updates ------------------------------------------
         for v in range(N):
             lo, hi = bounds(v, x, pred_ptr, pred_idx, succ_ptr, succ_idx, L, U)
+            if hard_lo[v] > lo:
+                lo = hard_lo[v]
+            if hard_hi[v] < hi:
+                hi = hard_hi[v]
             if hi <= lo:
                 continue
             kv = kind[v]
@@ -60,7 +64,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                 # slice sampling with shrinkage from the whole [lo, hi] (Neal 2003, §4)
                 x0 = x[v]
                 y = local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                                     phase_start, phase_end, phase_n, block_first, block_last, block_k, R)
+                                     phase_start, phase_end, phase_n, block_first, block_last, block_k,
+                                     block_group, group_ptr, group_blocks, R)
                 y += np.log(uniform(rng))
                 a, b = lo, hi
                 accepted = False
@@ -68,7 +73,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                     x[v] = a + uniform(rng) * (b - a)
                     f = local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr,
                                          node_block_idx, phase_start, phase_end, phase_n,
-                                         block_first, block_last, block_k, R)
+                                         block_first, block_last, block_k, block_group, group_ptr, group_blocks, R)
                     if f > y:
                         accepted = True
                         break
@@ -90,7 +95,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
             g = block_logdens(0, 0.0, 0.0, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
                                succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
                                phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                               prior_active, L, U, R, left, step, G)
+                               block_group, group_ptr, group_blocks,
+                               prior_active, L, U, R, left, step, G, hard_lo, hard_hi)
             for move in range(2 * BLOCK_REPEATS):
                 mode = move % 2
                 # the scale pivot is the current midpoint, which scaling leaves in place
@@ -101,7 +107,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                 ok, g = block_mh(mode, t, pivot, g, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                                  prior_active, L, U, R, left, step, G, rng)
+                                  block_group, group_ptr, group_blocks,
+                                  prior_active, L, U, R, left, step, G, hard_lo, hard_hi, rng)
                 if it < record_from:
                     # Robbins-Monro tuning toward acceptance 0.44, during warm-up only
                     log_tau[p, mode] += (1.0 / np.sqrt(1.0 + it)) * ((1.0 if ok else 0.0) - 0.44)
@@ -128,7 +135,7 @@ def kernel_args(f: FlatModel):
     return (f.kind, f.pred_ptr, f.pred_idx, f.succ_ptr, f.succ_idx, f.row, f.static_ll, f.static_cdf,
             f.det_ptr, f.det_in, f.det_out, f.det_logq, f.det_log1mq, f.det_node,
             f.phase_start, f.phase_end, f.phase_n, f.shift_ptr, f.shift_idx,
-            f.block_first, f.block_last, f.block_k,
+            f.block_first, f.block_last, f.block_k, f.block_group, f.group_ptr, f.group_blocks,
             f.node_phase_ptr, f.node_phase_idx, f.node_block_ptr, f.node_block_idx,
-            bool(f.prior_active), float(f.lo), float(f.hi), float(f.left), float(f.step))
+            bool(f.prior_active), float(f.lo), float(f.hi), float(f.left), float(f.step), f.hard_lo, f.hard_hi)
 

@@ -11,7 +11,9 @@
   constraint DAG, clipped to ``L..U`` (:func:`bounds`);
 * the boundary prior factors (:func:`local_log_prior` for one node,
   :func:`full_log_prior` for a whole state) are the span-uniform prior of
-  Nicholls & Jones (2001), see :mod:`chronology.engine.priors`.
+  Nicholls & Jones (2001), with the exact room of overlapping phases'
+  ordered beginnings (:func:`group_log_volume`), see
+  :mod:`chronology.engine.priors`.
 """
 
 from __future__ import annotations
@@ -19,10 +21,11 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
+from chronology.engine.ordered_volume import log_ordered_volume
 from chronology.engine.sampler_random import uniform
 
-__all__ = ["cell", "node_ll_cell", "bounds", "cdf_at", "draw_static", "draw_window", "local_log_prior",
-           "full_log_prior"]
+__all__ = ["cell", "node_ll_cell", "bounds", "cdf_at", "draw_static", "draw_window", "group_log_volume",
+           "local_log_prior", "full_log_prior"]
 
 
 @njit(cache=True, nogil=True)
@@ -130,8 +133,23 @@ def draw_window(v, lo, hi, cur, row, static_ll, det_ptr, det_in, det_out, phi, l
 
 
 @njit(cache=True, nogil=True)
+def group_log_volume(g, x, block_first, block_last, group_ptr, group_blocks, R):
+    """Log room of group ``g``'s ordered beginnings (``log(R - S)`` for a lone chain, Steck 1971 otherwise)."""
+    g0, g1 = group_ptr[g], group_ptr[g + 1]
+    if g1 - g0 == 1:
+        b = group_blocks[g0]
+        return np.log(R - (x[block_last[b]] - x[block_first[b]]))
+    rooms = np.empty(g1 - g0)
+    for j in range(g0, g1):
+        b = group_blocks[j]
+        rooms[j - g0] = R - (x[block_last[b]] - x[block_first[b]])
+    return log_ordered_volume(rooms, R)
+
+
+@njit(cache=True, nogil=True)
 def local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
-                     phase_start, phase_end, phase_n, block_first, block_last, block_k, R):
+                     phase_start, phase_end, phase_n, block_first, block_last, block_k, block_group,
+                     group_ptr, group_blocks, R):
     total = 0.0
     for j in range(node_phase_ptr[v], node_phase_ptr[v + 1]):
         p = node_phase_idx[j]
@@ -146,12 +164,21 @@ def local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_b
         S = x[block_last[b]] - x[block_first[b]]
         if S <= 0.0 or S >= R:
             return -np.inf
-        total -= np.log(R - S) + (block_k[b] - 2) * np.log(S)
+        total -= (block_k[b] - 2) * np.log(S)
+    for j in range(node_block_ptr[v], node_block_ptr[v + 1]):
+        g = block_group[node_block_idx[j]]
+        seen = False
+        for jj in range(node_block_ptr[v], j):
+            if block_group[node_block_idx[jj]] == g:
+                seen = True
+        if not seen:
+            total -= group_log_volume(g, x, block_first, block_last, group_ptr, group_blocks, R)
     return total
 
 
 @njit(cache=True, nogil=True)
-def full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k, R):
+def full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k, block_group,
+                    group_ptr, group_blocks, R):
     total = 0.0
     for p in range(phase_start.shape[0]):
         n = phase_n[p]
@@ -164,6 +191,7 @@ def full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, 
         S = x[block_last[b]] - x[block_first[b]]
         if S <= 0.0 or S >= R:
             return -np.inf
-        total -= np.log(R - S) + (block_k[b] - 2) * np.log(S)
+        total -= (block_k[b] - 2) * np.log(S)
+    for g in range(group_ptr.shape[0] - 1):
+        total -= group_log_volume(g, x, block_first, block_last, group_ptr, group_blocks, R)
     return total
-

@@ -24,6 +24,7 @@ from .errors import OrderError
 from .order_paths import PathStep, chain_steps, equality_chain
 from .order_policy import ExtraOrdering, OrderPolicy
 from .record_data import EQUALITY_TYPES, ORDERED_TYPES, STRICT_TYPES, ContextData, RelationshipData
+from .temporal_edges import group_edges
 from .unionfind import UnionFind
 
 __all__ = [
@@ -267,6 +268,74 @@ def _link(adj: list, a: int, b: int, rid: int) -> None:
         adj[x].append((y, rid))
 
 
+def _edges_one_by_one(ordered, extras, index_of, node_of, n_nodes):
+    """Edges with interpretive orderings among their supports, grouped one relationship at a time."""
+    # Edges are found through an integer key earlier * n_nodes + later; their
+    # supports accumulate in parallel lists (faster than a dict of objects).
+    slot_of: dict[int, int] = {}
+    keys: list[int] = []
+    strict_of: list[bool] = []
+    rels_of: list[list[int]] = []
+    extras_of: list[list[int]] = []
+    loops: dict[int, list] = {}
+    nn = max(n_nodes, 1)
+
+    def slot(u: int, v: int) -> int:
+        key = u * nn + v
+        e = slot_of.get(key)
+        if e is None:
+            e = slot_of[key] = len(keys)
+            keys.append(key)
+            strict_of.append(False)
+            rels_of.append([])
+            extras_of.append([])
+        return e
+
+    for r in ordered:
+        u, v = node_of[index_of[r.earlier]], node_of[index_of[r.later]]
+        strict = r.type in STRICT_TYPES
+        if u == v:
+            loop = loops.setdefault(u, [False, [], []])
+            loop[0] = loop[0] or strict
+            loop[1].append(r.id)
+            continue
+        key = u * nn + v
+        e = slot_of.get(key)
+        if e is None:
+            slot_of[key] = len(keys)
+            keys.append(key)
+            strict_of.append(strict)
+            rels_of.append([r.id])
+            extras_of.append([])
+        else:
+            if strict:
+                strict_of[e] = True
+            rels_of[e].append(r.id)
+    for k, x in enumerate(extras):
+        u, v = node_of[index_of[x.earlier]], node_of[index_of[x.later]]
+        if u == v:
+            loop = loops.setdefault(u, [False, [], []])
+            loop[0] = loop[0] or bool(x.strict)
+            loop[2].append(k)
+            continue
+        e = slot(u, v)
+        strict_of[e] = strict_of[e] or bool(x.strict)
+        extras_of[e].append(k)
+
+    order = sorted(range(len(keys)), key=keys.__getitem__)
+    edge_earlier = [keys[i] // nn for i in order]
+    edge_later = [keys[i] % nn for i in order]
+    edge_strict = [strict_of[i] for i in order]
+    edge_rels = [tuple(rels_of[i]) for i in order]
+    edge_extras = [tuple(extras_of[i]) for i in order]
+    succ: list[list[int]] = [[] for _ in range(n_nodes)]
+    pred: list[list[int]] = [[] for _ in range(n_nodes)]
+    for e, (a, b) in enumerate(zip(edge_earlier, edge_later)):
+        succ[a].append(e)
+        pred[b].append(e)
+    return edge_earlier, edge_later, edge_strict, edge_rels, edge_extras, succ, pred, loops
+
+
 def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> TemporalGraph:
     """Build the graph; ``implied`` are ids of weak relationships merged as equalities."""
     contexts = sorted(contexts, key=lambda c: c.id)
@@ -323,70 +392,15 @@ def _compile(contexts, relationships, policy: OrderPolicy, implied=()) -> Tempor
     for c, v in enumerate(node_of):
         members[v].append(c)
 
-    # Edges are found through an integer key earlier * n_nodes + later; their
-    # supports accumulate in parallel lists (faster than a dict of objects).
-    slot_of: dict[int, int] = {}
-    keys: list[int] = []
-    strict_of: list[bool] = []
-    rels_of: list[list[int]] = []
-    extras_of: list[list[int]] = []
-    loops: dict[int, list] = {}
-    nn = max(n_nodes, 1)
-
-    def slot(u: int, v: int) -> int:
-        key = u * nn + v
-        e = slot_of.get(key)
-        if e is None:
-            e = slot_of[key] = len(keys)
-            keys.append(key)
-            strict_of.append(False)
-            rels_of.append([])
-            extras_of.append([])
-        return e
-
-    for r in ordered:
-        u, v = node_of[index_of[r.earlier]], node_of[index_of[r.later]]
-        strict = r.type in STRICT_TYPES
-        if u == v:
-            loop = loops.setdefault(u, [False, [], []])
-            loop[0] = loop[0] or strict
-            loop[1].append(r.id)
-            continue
-        key = u * nn + v
-        e = slot_of.get(key)
-        if e is None:
-            slot_of[key] = len(keys)
-            keys.append(key)
-            strict_of.append(strict)
-            rels_of.append([r.id])
-            extras_of.append([])
-        else:
-            if strict:
-                strict_of[e] = True
-            rels_of[e].append(r.id)
     extras = policy.extra_orderings
-    for k, x in enumerate(extras):
-        u, v = node_of[index_of[x.earlier]], node_of[index_of[x.later]]
-        if u == v:
-            loop = loops.setdefault(u, [False, [], []])
-            loop[0] = loop[0] or bool(x.strict)
-            loop[2].append(k)
-            continue
-        e = slot(u, v)
-        strict_of[e] = strict_of[e] or bool(x.strict)
-        extras_of[e].append(k)
-
-    order = sorted(range(len(keys)), key=keys.__getitem__)
-    edge_earlier = [keys[i] // nn for i in order]
-    edge_later = [keys[i] % nn for i in order]
-    edge_strict = [strict_of[i] for i in order]
-    edge_rels = [tuple(rels_of[i]) for i in order]
-    edge_extras = [tuple(extras_of[i]) for i in order]
-    succ: list[list[int]] = [[] for _ in range(n_nodes)]
-    pred: list[list[int]] = [[] for _ in range(n_nodes)]
-    for e, (a, b) in enumerate(zip(edge_earlier, edge_later)):
-        succ[a].append(e)
-        pred[b].append(e)
+    if extras:
+        edge_earlier, edge_later, edge_strict, edge_rels, edge_extras, succ, pred, loops = _edges_one_by_one(
+            ordered, extras, index_of, node_of, n_nodes)
+    else:
+        grouped = group_edges(ordered, [c.id for c in contexts], node_of, n_nodes)
+        edge_earlier, edge_later, edge_strict = grouped.earlier, grouped.later, grouped.strict
+        edge_rels, succ, pred, loops = grouped.relationships, grouped.succ, grouped.pred, grouped.loops
+        edge_extras = [()] * len(edge_earlier)
     self_loops = [(v, s, tuple(r), tuple(x)) for v, (s, r, x) in sorted(loops.items())]
 
     return TemporalGraph(

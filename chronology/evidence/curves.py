@@ -4,14 +4,13 @@
 parser (``chronology.engine.curves.parse_curve``), stores its rows once per
 checksum and names the curve for one organisation or for all.  The engine
 objects built from stored rows (``engine_curve``) and their interpolation
-onto a calendar grid (``curve_on_grid``) are cached per process: a curve
-never changes once stored, so its checksum is a safe cache key.
+onto a calendar grid (``curve_on_grid``) are cached per process in one cache
+bounded by bytes (``curve_cache.shared``): a curve never changes once stored,
+so its checksum is a safe cache key, and grid steps come from a fixed set
+(``limits.grid_step``).
 """
 
 from __future__ import annotations
-
-import threading
-from collections import OrderedDict
 
 from django.conf import settings
 from django.db import IntegrityError, transaction
@@ -25,6 +24,8 @@ from projects.models import Organisation, Role
 from projects.models.tenancy import Membership
 from projects.record.errors import RecordConflict, RecordInvalid
 
+from . import limits
+from .curve_cache import shared as _cache
 from .models import Curve, CurveTable
 
 __all__ = [
@@ -37,11 +38,6 @@ __all__ = [
     "curve_summary",
 ]
 
-#: How many interpolated curves each process keeps (each is ~1 MB at a 1-year step).
-_CACHE_SIZE = 16
-_lock = threading.Lock()
-_engine_cache: OrderedDict = OrderedDict()
-_grid_cache: OrderedDict = OrderedDict()
 
 
 def default_step() -> float:
@@ -78,14 +74,17 @@ def _parse(text: str, max_step, **meta) -> EngineCurve:
             raise RecordInvalid("max_step must be a number", field="max_step", code="invalid-number") from None
         if not max_step > 0:
             raise RecordInvalid("max_step must be positive", field="max_step", code="not-positive")
+        limits.check_curve_max_step(max_step)
     try:
-        return parse_curve(text, max_step=max_step, **meta)
+        parsed = parse_curve(text, max_step=max_step, **meta)
     except CalibrationError as exc:
         if exc.code == "curve-no-name":
             raise RecordInvalid("a curve needs a name (give one or a '# name:' line)", field="name",
                                 code="required") from None
         details = {k: v for k, v in exc.details.items() if k in ("line", "problem", "column", "gap", "rows")}
         raise RecordInvalid(exc.message, field="table", code=exc.code, **details) from None
+    limits.check_curve_extent(parsed.cal_bp)
+    return parsed
 
 
 def import_curve(text: str, *, name: str = "", citation: str = "", licence: str = "",
@@ -171,28 +170,17 @@ def resolve_curve(ref, organisation_id, field: str = "curve") -> Curve:
     return curve
 
 
-def _remember(cache: OrderedDict, key, value):
-    cache[key] = value
-    cache.move_to_end(key)
-    while len(cache) > _CACHE_SIZE:
-        cache.popitem(last=False)
-    return value
-
-
 def engine_curve(curve: Curve) -> EngineCurve:
     """The engine's view of a stored curve (cached per process by checksum and name)."""
-    key = (curve.table.checksum, curve.name, curve.synthetic)
-    with _lock:
-        hit = _engine_cache.get(key)
-        if hit is not None:
-            _engine_cache.move_to_end(key)
-            return hit
+    key = ("engine", curve.table.checksum, curve.name, curve.synthetic)
+    hit = _cache.get(key)
+    if hit is not None:
+        return hit
     rows = curve.table.rows
     built = EngineCurve(name=curve.name, citation=curve.citation, licence=curve.licence,
                         cal_bp=rows["cal_bp"], c14_bp=rows["c14_bp"], sigma=rows["sigma"],
                         synthetic=curve.synthetic)
-    with _lock:
-        return _remember(_engine_cache, key, built)
+    return _cache.put(key, built)
 
 
 def _common_grid(curves: list[EngineCurve], step: float) -> CalendarGrid:
@@ -207,31 +195,27 @@ def _common_grid(curves: list[EngineCurve], step: float) -> CalendarGrid:
 def curve_on_grid(curve: Curve, step: float | None = None, *, with_curves: tuple[Curve, ...] = ()):
     """``curve`` interpolated onto a regular grid at ``step`` years (cached per process).
 
+    ``step`` must be one of ``limits.allowed_steps()``; ``None`` means the default.
+
     With ``with_curves``, the grid is the span all of them cover, so that they
     can be mixed; otherwise the curve's whole extent.
     """
-    step = default_step() if step is None else float(step)
-    if not step > 0:
-        raise RecordInvalid("the grid step must be positive", field="step", code="not-positive")
+    step = default_step() if step is None else limits.grid_step(step)
     models_ = (curve, *with_curves)
-    key = (tuple(c.table.checksum for c in models_), curve.name, step)
-    with _lock:
-        hit = _grid_cache.get(key)
-        if hit is not None:
-            _grid_cache.move_to_end(key)
-            return hit
+    key = ("grid", tuple(c.table.checksum for c in models_), curve.name, step)
+    hit = _cache.get(key)
+    if hit is not None:
+        return hit
     engines = [engine_curve(c) for c in models_]
     grid = _common_grid(engines, step) if with_curves else None
+    limits.check_grid_points(engines[0].youngest_year - engines[0].oldest_year, step)
     on_grid = engine_calibration.curve_on_grid(engines[0], grid, step=step)
-    with _lock:
-        return _remember(_grid_cache, key, on_grid)
+    return _cache.put(key, on_grid)
 
 
 def forget() -> None:
     """Empty the per-process caches (tests)."""
-    with _lock:
-        _engine_cache.clear()
-        _grid_cache.clear()
+    _cache.clear()
 
 
 def curve_summary(curve: Curve) -> dict:

@@ -22,7 +22,7 @@ from projects.models import Context, Project
 from projects.record.errors import RecordConflict, RecordInvalid, RecordNotFound
 from projects.record.writes import Actor, ChangeSet, WriteResult, parse_uid, record_change
 
-from . import calibrate
+from . import calibrate, limits
 from .curves import resolve_curve
 from .models import CalendarDate, Determination, Sample, Terminus
 from .representation import calendar_date_data, determination_data, sample_data, terminus_data
@@ -203,6 +203,7 @@ def _measurement(fields: dict) -> dict:
             raise RecordInvalid("the age error is derived from the F14C error; do not give both", field="cra_sigma",
                                 code="ambiguous-measurement")
         age, age_sigma = cra_from_f14c(f14c, f_sigma)
+        limits.check_error(float(age_sigma), "f14c_sigma")
         return {"measured": "f14c", "f14c": f14c, "f14c_sigma": f_sigma, "cra": float(age),
                 "cra_sigma": float(age_sigma)}
     if cra is None:
@@ -210,13 +211,14 @@ def _measurement(fields: dict) -> dict:
                             code="required")
     if fields.get("f14c_sigma") not in (None, ""):
         raise RecordInvalid("an F14C error without an F14C value", field="f14c", code="required")
-    return {"measured": "cra", "cra": cra, "cra_sigma": _error(fields, "cra_sigma", required=True),
+    sigma = limits.check_error(_error(fields, "cra_sigma", required=True), "cra_sigma")
+    return {"measured": "cra", "cra": cra, "cra_sigma": sigma,
             "f14c": None, "f14c_sigma": None}
 
 
 def _reservoir(fields: dict, organisation_id) -> dict:
-    delta_r = _number(fields, "delta_r")
-    delta_r_sigma = _error(fields, "delta_r_sigma", zero_ok=True)
+    delta_r = limits.check_offset(_number(fields, "delta_r"), "delta_r")
+    delta_r_sigma = limits.check_error(_error(fields, "delta_r_sigma", zero_ok=True), "delta_r_sigma")
     if delta_r_sigma is not None and delta_r is None:
         raise RecordInvalid("an offset error without an offset", field="delta_r", code="required")
     fraction = _number(fields, "marine_fraction")
@@ -331,7 +333,7 @@ def _add_calendar_date(changes: ChangeSet, fields: dict, uid) -> WriteResult:
                "mean": None, "sd": None, "start": None, "end": None}
     if kind == "normal":
         cleaned["mean"] = _year(fields, "mean", required=True)
-        cleaned["sd"] = _error(fields, "sd", required=True)
+        cleaned["sd"] = limits.check_error(_error(fields, "sd", required=True), "sd")
     else:
         cleaned["start"] = _year(fields, "start", required=True)
         cleaned["end"] = _year(fields, "end", required=True)
@@ -407,11 +409,16 @@ def add_terminus(project: Project, actor: Actor, *, uid=None, **fields) -> Write
 # -- retraction --------------------------------------------------------------
 
 def _repr(kind: str, obj) -> str:
+    """The log's short text for a retraction; no row ids, which are the database's, not the record's."""
     if kind == "sample":
         return f"sample {obj.code}"
     if kind == "determination":
         return obj.lab_code
-    return f"{kind.replace('_', ' ')} {obj.id}"
+    data = _data(kind, obj)
+    if kind == "calendar_date":
+        owner = f"sample {obj.sample.code}" if obj.sample_id else f"context {obj.context.label}"
+        return f"calendar date {data['text']} for {owner}"
+    return f"{obj.context.label} {data['text']} ({obj.find})"[:200]
 
 
 def _retract(changes: ChangeSet, kind: str, obj, reason: str) -> None:

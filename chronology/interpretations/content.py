@@ -19,9 +19,14 @@
         {"kind": "duration", "phase": "settlement"},
         {"kind": "gap", "from": "phase:enclosure:close", "to": "phase:settlement:beginning"},
         {"kind": "precedence", "earlier": "context:17", "later": "evidence:determination:4"}
-      ]
+      ],
+      "range": {"earliest": -1200, "latest": 400}   # optional; null = derived from the evidence
     }
 
+``range`` sets the model's overall range ``[L, U]`` in astronomical years (1 BC
+= 0); without it the range is derived from the evidence (see
+:mod:`chronology.runs.compile_range`).  It appears in the canonical form only
+when set, so documents without it keep their hashes.
 ``to_next`` is the arrangement of a phase with the next one: ``sequential``
 (a gap is allowed, optionally at least ``min_gap`` years), ``contiguous`` (one
 shared boundary) or ``overlapping`` (independent boundaries, starts in order);
@@ -80,11 +85,13 @@ UNCERTAIN_DECISIONS = ("accepted", "rejected", "undecided")
 EVIDENCE_USES = ("included", "excluded", "residual", "intrusive")
 QUESTION_KINDS = enum_of("questionKind")
 SECTIONS = tuple(schema()["properties"])
+#: Sections holding one object (or null) rather than a list.
+SINGLE_SECTIONS = ("range",)
 
 # The order in which problems are listed: the order the sections are read in
 # (phases first, because every other section refers to them).
 _ERROR_ORDER = ("phases", "equalities", "uncertain", "evidence", "assignments", "set_aside", "orderings",
-                "estimate", "questions")
+                "estimate", "questions", "range")
 
 
 class ContentInvalid(Exception):
@@ -98,7 +105,7 @@ class ContentInvalid(Exception):
 
 
 def empty_document() -> dict:
-    return {name: [] for name in SECTIONS}
+    return {name: (None if name in SINGLE_SECTIONS else []) for name in SECTIONS}
 
 
 def validate(document) -> dict:
@@ -171,6 +178,8 @@ def _normalised(doc: Mapping) -> dict:
                        for e in doc.get("evidence") or []]
     out["estimate"] = list(doc.get("estimate") or [])
     out["questions"] = [_question(q) for q in doc.get("questions") or []]
+    r = doc.get("range")
+    out["range"] = None if r is None else {"earliest": r["earliest"], "latest": r["latest"]}
     return out
 
 
@@ -186,7 +195,7 @@ def _question(raw: Mapping) -> dict:
 
 def _canonical(doc: dict) -> dict:
     """Sort what has no order of its own, so equal content has one form (and one hash)."""
-    return {
+    out = {
         "phases": doc["phases"],
         "assignments": sorted(doc["assignments"], key=lambda x: x["context"]),
         "equalities": sorted(doc["equalities"], key=lambda x: x["relationship"]),
@@ -197,6 +206,9 @@ def _canonical(doc: dict) -> dict:
         "estimate": sorted(doc["estimate"]),
         "questions": doc["questions"],
     }
+    if doc.get("range") is not None:
+        out["range"] = doc["range"]
+    return out
 
 
 def resolve_labels(document, lookup: Callable[[str], int | None]) -> dict:

@@ -66,7 +66,17 @@ def problems(doc: Mapping) -> list[dict]:
     _orderings(out, doc)
     _estimate(out, doc)
     _questions(out, doc, keys, evidence)
+    _range(out, doc)
     return out.items
+
+
+def _range(out: _Problems, doc: Mapping) -> None:
+    r = doc.get("range")
+    if not isinstance(r, Mapping):
+        return
+    lo, hi = r.get("earliest"), r.get("latest")
+    if _number(lo) and _number(hi) and not lo < hi:
+        out.add("range.latest", "invalid-range", "the latest end of the overall range must be later than the earliest")
 
 
 def _phases(out: _Problems, doc: Mapping) -> set[str]:
@@ -214,7 +224,8 @@ def _event_problem(path: str, value: str, keys: set[str], evidence: set[str]) ->
 def _questions(out: _Problems, doc: Mapping, keys: set[str], evidence: set[str]) -> None:
     seen: dict[str, int] = {}
     for i, q in _mapping_items(doc, "questions"):
-        fields = QUESTION_FIELDS.get(q.get("kind"))
+        kind = q.get("kind")
+        fields = QUESTION_FIELDS.get(kind) if isinstance(kind, str) else None  # any other kind is a schema error
         if fields is None:
             continue
         path = f"questions[{i}]"

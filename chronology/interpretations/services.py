@@ -170,8 +170,14 @@ def _create_version(interpretation: Interpretation, actor: Actor, *, revision: i
 
 
 def create_interpretation(project: Project, actor: Actor, *, name: str, description: str = "", content=None,
-                          record_revision=None, message: str = "") -> tuple[Interpretation, Version]:
-    """A new interpretation with its first draft (version 1)."""
+                          record_revision=None, message: str = "",
+                          version_actor: Actor | None = None) -> tuple[Interpretation, Version]:
+    """A new interpretation with its first draft (version 1).
+
+    ``version_actor`` is logged as the author of the draft's creation when it
+    differs from the interpretation's (a replayed history keeps both entries'
+    own provenance); by default it is ``actor``.
+    """
     require_role(project, actor, Role.ANALYST)
     name = (name or "").strip()
     if not name:
@@ -191,8 +197,8 @@ def create_interpretation(project: Project, actor: Actor, *, name: str, descript
             raise duplicate from None
         log_action(project, actor, "interpretation.created", kind="interpretation", object_id=interpretation.pk,
                    repr_=name, after={"name": name, "description": interpretation.description})
-        version = _create_version(interpretation, actor, revision=revision, content=cleaned, parent=None,
-                                  message=message)
+        version = _create_version(interpretation, version_actor or actor, revision=revision, content=cleaned,
+                                  parent=None, message=message)
     return interpretation, version
 
 

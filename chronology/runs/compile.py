@@ -178,6 +178,8 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         phases.append(PhaseInput(p.key, tuple(members), p.arrangement_next, p.label))
 
     grid, lo, hi = choose_grid(reading, terms, evidence)
+    if reading.range is not None:
+        notes.append(f"overall range set by the version: {lo:g} to {hi:g} (astronomical years)")
     inputs, table = [], []
     for t in terms:
         row = {"key": t.key, "label": t.label, "kind": t.kind, "context": t.context,
@@ -189,8 +191,9 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
                                         kind=t.kind))
             continue
         ll, out = t.build(grid, lo, hi)
+        bound = t.detail.get("year") if t.kind in ("tpq", "taq") else None
         inputs.append(EvidenceInput(t.key, rep[t.context], ll, t.use, t.outlier_prior if out is not None else 0.0,
-                                    out, t.label, t.kind))
+                                    out, t.label, t.kind, bound))
     questions, question_labels = compile_questions(reading, rep, terms, event_labels)
     model = compile_model(
         grid, phases=phases, order=order, evidence=inputs, range_lo=lo, range_hi=hi,

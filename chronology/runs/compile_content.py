@@ -53,7 +53,9 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
         if u.use not in USES:
             raise ModelRefused("invalid-input", f"unknown evidence use {u.use!r}", evidence=u.evidence)
     policy = order_policy(content, {r.id: r for r in relationships}, contexts=set(context_ids))
+    overall = content.get("range")
     return ModelSpec(
+        range=None if not overall else (float(overall["earliest"]), float(overall["latest"])),
         phases=phases,
         usages=usages,
         policy=policy,

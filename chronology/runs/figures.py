@@ -15,13 +15,20 @@ import os
 
 import numpy as np
 
-from chronology.engine.plots.comparison_chart import ComparisonGroup, PairedRow, comparison_chart
-from chronology.engine.plots.density_grid import DensityPanel, density_grid
+from chronology.engine.plots.comparison_chart import ComparisonGroup, PairedRow, comparison_chart_figure
+from chronology.engine.plots.density_grid import DensityPanel, density_grid_figure
+from chronology.engine.plots.figure_parts import render
 from chronology.engine.plots.figure_parts import FigureHeading
-from chronology.engine.plots.interval_chart import ChartGroup, ChartRow, interval_chart
+from chronology.engine.plots.interval_chart import (
+    ChartGroup,
+    ChartRow,
+    chart_extent,
+    interval_chart_figure,
+)
 
-__all__ = ["heading_for", "chart_groups", "write_run_figures", "interval_figure", "density_figure",
-           "compare_runs", "comparison_figure", "OUTSIDE_PHASES"]
+__all__ = ["heading_for", "chart_groups", "chart_pages", "interval_figure_pages", "interval_page_figures",
+           "density_grid_of", "write_run_figures", "interval_figure", "density_figure",
+           "compare_runs", "comparison_figure", "comparison_figure_of", "interval_figure_of", "OUTSIDE_PHASES"]
 
 OUTSIDE_PHASES = "Not in a phase"
 
@@ -80,20 +87,67 @@ def chart_groups(results: dict) -> list[ChartGroup]:
     return [ChartGroup(label, tuple(_row(e) for e in rows)) for label, rows in _ordered_events(results)]
 
 
+def interval_figure_of(results: dict):
+    """The Figure of the run's interval chart (every event on one figure)."""
+    return interval_chart_figure(chart_groups(results), heading_for(results))
+
+
 def interval_figure(results: dict, fmt: str = "svg") -> bytes:
-    return interval_chart(chart_groups(results), heading_for(results), fmt)
+    """The run's interval chart as ``fmt`` bytes."""
+    return render(interval_figure_of(results), fmt)
+
+
+def chart_pages(groups, rows_per_page: int = 40) -> list[list[ChartGroup]]:
+    """``groups`` cut into pages of at most ``rows_per_page`` lines; a phase cut in two says "(continued)"."""
+    if rows_per_page < 2:
+        raise ValueError("rows_per_page must be at least 2")
+    pages, page, used = [], [], 0
+    for g in groups:
+        rows, label = list(g.rows), g.label
+        while rows:
+            room = rows_per_page - used - 1  # one line for the phase's heading
+            if room < 1:
+                pages.append(page)
+                page, used = [], 0
+                continue
+            take, rows = rows[:room], rows[room:]
+            page.append(ChartGroup(label, tuple(take)))
+            used += len(take) + 1
+            label = f"{g.label} (continued)"
+    if page:
+        pages.append(page)
+    return pages
+
+
+def interval_page_figures(results: dict, *, rows_per_page: int = 40) -> list:
+    """The interval chart cut into pages (for the report) as Figures, every page on the same calendar axis."""
+    groups = chart_groups(results)
+    extent = chart_extent(groups)
+    heading = heading_for(results)
+    return [interval_chart_figure(page, heading, extent=extent) for page in chart_pages(groups, rows_per_page)]
+
+
+def interval_figure_pages(results: dict, fmt: str = "svg", *, rows_per_page: int = 40) -> list[bytes]:
+    """:func:`interval_page_figures` rendered as ``fmt`` bytes."""
+    return [render(fig, fmt) for fig in interval_page_figures(results, rows_per_page=rows_per_page)]
 
 
 def write_run_figures(run, results: dict) -> None:
     """Draw the run's interval chart into its folder as ``plot.svg`` and ``plot.png`` (atomically)."""
+    fig = interval_figure_of(results)
     for fmt in ("svg", "png"):
-        data = interval_figure(results, fmt)
+        data = render(fig, fmt)
         tmp = run.path(f".plot.{os.getpid()}.tmp.{fmt}")
         tmp.write_bytes(data)
         os.replace(tmp, run.path(f"plot.{fmt}"))
 
 
 def density_figure(results: dict, keys=None, fmt: str = "svg", *, limit: int = 24) -> bytes:
+    """Small panels of the densities of the events ``keys`` (see :func:`density_grid_of`), as ``fmt`` bytes."""
+    return render(density_grid_of(results, keys, limit=limit), fmt)
+
+
+def density_grid_of(results: dict, keys=None, *, limit: int = 24):
     """Small panels of the densities of the events ``keys`` (or labels); all events, up to ``limit``, when None.
 
     Raises
@@ -115,7 +169,7 @@ def density_figure(results: dict, keys=None, fmt: str = "svg", *, limit: int = 2
     panels = [DensityPanel(e["label"], e["kind"], years, np.asarray(e["density"], float), _pairs(e["hpd"]["95.4"]),
                            None if e.get("likelihood") is None else np.asarray(e["likelihood"], float))
               for e in chosen]
-    return density_grid(panels, heading_for(results), fmt)
+    return density_grid_figure(panels, heading_for(results))
 
 
 def _paired(first: dict, second: dict):
@@ -164,5 +218,11 @@ def _provenance(r: dict) -> dict:
 
 
 def comparison_figure(first: dict, second: dict, fmt: str = "svg") -> bytes:
+    """The two runs in one interval chart (see :func:`comparison_figure_of`), as ``fmt`` bytes."""
+    return render(comparison_figure_of(first, second), fmt)
+
+
+def comparison_figure_of(first: dict, second: dict):
+    """The Figure of two runs' shared events side by side, with the differences of medians."""
     groups = _paired(first, second)[0]
-    return comparison_chart(groups, heading_for(first), heading_for(second), fmt)
+    return comparison_chart_figure(groups, heading_for(first), heading_for(second))

@@ -32,6 +32,7 @@ from chronology.engine.calendar_scales import format_range
 from chronology.engine.hpd import hpd_regions
 from chronology.engine.labels import format_probability, label_list
 from chronology.engine.model import Model
+from chronology.engine.range_pressure import RANGE_WARNING, range_pressure
 from chronology.engine.posterior import CAUTION, HPD_MASSES, PosteriorSummary, question_draws, summarise
 from chronology.runs.figures import write_run_figures
 
@@ -149,8 +150,18 @@ def _phases(model: Model) -> list[dict]:
              "members": list(p.members), "arrangement_next": p.arrangement_next} for p in model.phases]
 
 
+def _range_check(model: Model, dates) -> dict:
+    event_labels = {e.key: e.label for e in model.events}
+    flat = None if dates is None else np.asarray(dates).reshape(-1, len(model.event_keys))
+    pressed = [] if flat is None else range_pressure(flat, model.event_keys, model.range_lo, model.range_hi)
+    for row in pressed:
+        row["label"] = event_labels.get(row["event"], row["event"])
+    return {"lo": model.range_lo, "hi": model.range_hi, "pressed": pressed,
+            "warning": RANGE_WARNING if pressed else None}
+
+
 def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels: dict, *, densities: bool,
-                    evidence_rows=()) -> dict:
+                    evidence_rows=(), dates=None) -> dict:
     diag = {q.name: q for q in report.quantities}
 
     def d(name):
@@ -208,6 +219,7 @@ def summary_to_dict(run, model: Model, summary: PosteriorSummary, report, labels
         "prior": summary.prior,
         "prior_text": summary.prior_text,
         "range": run.range,
+        "range_check": _range_check(model, dates),
         "grid": run.grid,
         "methods": list(summary.methods),
         "caution": summary.caution,
@@ -260,12 +272,14 @@ def compute_results(run) -> dict:
     tmp = run.path(f".samples.{os.getpid()}.{uuid.uuid4().hex[:8]}.tmp.nc")
     write_netcdf(idata, str(tmp))
     os.replace(tmp, run.path("samples.nc"))
-    full = summary_to_dict(run, model, summary, report, labels, densities=True, evidence_rows=evidence_rows)
+    full = summary_to_dict(run, model, summary, report, labels, densities=True, evidence_rows=evidence_rows,
+                           dates=dates)
     full["evidence"] = evidence_rows
     full["years"] = {"start": model.grid.start, "step": model.grid.step, "n": model.grid.n}
     _write(run.path("results.json"), json.dumps(full, allow_nan=False))
     write_run_figures(run, full)
-    brief = summary_to_dict(run, model, summary, report, labels, densities=False, evidence_rows=evidence_rows)
+    brief = summary_to_dict(run, model, summary, report, labels, densities=False, evidence_rows=evidence_rows,
+                            dates=dates)
     brief["evidence"] = full["evidence"]
     brief["question_labels"] = labels
     return brief

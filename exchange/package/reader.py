@@ -167,8 +167,13 @@ def parse_cell(field: schemas.Field, text: str):
     raise ValueError(f"unknown type {kind}")
 
 
-def _typed_rows(zf, table: schemas.Table, problems: _Problems | None) -> Iterator[tuple[int, dict]]:
-    """(row number, typed row) of a table; row numbers count the header as row 1."""
+def _typed_rows(zf, table: schemas.Table, problems: _Problems | None, on_refused=None) -> Iterator[tuple[int, dict]]:
+    """(row number, typed row) of a table; row numbers count the header as row 1.
+
+    ``on_refused(row_number, typed)`` is told of each refused row with the
+    cells that did parse, so its key still counts for the rows referring to
+    it (one bad cell is reported once, not again at every reference).
+    """
     text = io.TextIOWrapper(zf.open(table.path), encoding="utf-8", newline="")
     reader = csv.reader(text, strict=True)
     try:
@@ -204,6 +209,8 @@ def _typed_rows(zf, table: schemas.Table, problems: _Problems | None) -> Iterato
                                      field=f.name, code="bad-enum")
             if ok:
                 yield row_number, typed
+            elif on_refused is not None:
+                on_refused(row_number, typed)
     except (csv.Error, UnicodeDecodeError) as exc:
         if problems is not None:
             problems.add(table.name, reader.line_num, f"unreadable CSV: {exc} (a truncated file?)",
@@ -241,7 +248,14 @@ def _check_rows(zf, table: schemas.Table, entry: dict, keys: dict[str, set], pro
     self_refs = [(f, other_f) for f, other, other_f in table.foreign_keys if other == table.name]
     pending: list[tuple[int, str, object]] = []
     count = 0
-    for row_number, row in _typed_rows(zf, table, problems):
+
+    def refused(_row_number: int, typed: dict) -> None:
+        nonlocal count
+        count += 1
+        if table.primary_key and all(typed.get(k) is not None for k in table.primary_key):
+            own.add(tuple(typed[k] for k in table.primary_key))
+
+    for row_number, row in _typed_rows(zf, table, problems, refused):
         count += 1
         pk = tuple(row[k] for k in table.primary_key)
         if table.primary_key:

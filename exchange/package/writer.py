@@ -128,7 +128,10 @@ def write_package(project, out, *, on_table=None) -> dict:
             "tellstack:project": {"code": project.code, "name": project.name, "organisation": project.organisation.slug,
                                   "description": project.description},
             "tellstack:revision": project.revision,
-            "tellstack:head_digest": project.record_digest,
+            # The newest link of the digest chain (workflow entries included) and the latest revision's
+            # digest: whoever keeps this package can later tell a rewrite of the history.
+            "tellstack:head_digest": project.head_digest or "",
+            "tellstack:record_digest": project.record_digest or "",
             "tellstack:files": files,
         }
         files.append(_write_text(zf, "README.md", readme.render(descriptor)))

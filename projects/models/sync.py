@@ -13,6 +13,9 @@ class SyncBatch(AppendOnlyModel):
     user = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+")
     revision = models.PositiveIntegerField()
     response = models.JSONField()
+    #: The batch's items as canonical JSON text and its SHA-256: a replay must match them.
+    body = models.TextField(blank=True, default="")
+    body_digest = models.CharField(max_length=64, blank=True, default="")
     created_at = models.DateTimeField(auto_now_add=True)
 
     objects = AppendOnlyQuerySet.as_manager()

@@ -16,11 +16,12 @@ from __future__ import annotations
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 
-from django.db import transaction
+from django.db import connection, transaction
 from django.utils import timezone
 
 from projects.models import ChangeLogEntry, Project, RecordState, Revision
 
+from .bulk_insert import COPY_FROM, insert_rows, insert_statement, run_together
 from .history import imported_provenance, revision_digest
 
 
@@ -147,30 +148,52 @@ class ChangeSet:
             RecordState(project=self.project, kind=kind, object_id=object_id, valid_from=self.revision, data=data)
             for (kind, object_id), data in self._states.items()
         ]
-        self._close_rows()
-        ChangeLogEntry.objects.bulk_create(rows)
-        if states:
-            RecordState.objects.bulk_create(states)
         parent = self.project.head_digest
         revision = Revision(
             number=self.revision, parent_digest=parent, created_at=now,
             summary=(self.summary or _summarise(self.entries))[:300], **common,
         )
         revision.digest = revision_digest(parent, revision, rows, states, self._closing)
-        revision.save(force_insert=True)
-        Project.objects.filter(pk=self.project.pk).update(
-            revision=self.revision, record_digest=revision.digest, head_digest=revision.digest
-        )
+        if connection.vendor == "postgresql" and len(rows) + len(states) < COPY_FROM:
+            self._write_together(rows, states, revision)
+        else:
+            self._close_rows()
+            insert_rows(ChangeLogEntry, rows)
+            insert_rows(RecordState, states)
+            revision.save(force_insert=True)
+            Project.objects.filter(pk=self.project.pk).update(
+                revision=self.revision, record_digest=revision.digest, head_digest=revision.digest
+            )
         self.project.revision = self.revision
         self.project.record_digest = self.project.head_digest = revision.digest
         self.entries, self._states, self._born, self._closing = [], {}, set(), set()
         return revision
 
-    def _close_rows(self) -> None:
+    def _write_together(self, rows: list, states: list, revision: Revision) -> None:
+        """A small revision's rows in one round trip: log, states, closed rows, revision, project head."""
+        statements = [insert_statement(ChangeLogEntry, rows), insert_statement(Revision, [revision])]
+        if states:
+            statements.append(insert_statement(RecordState, states))
+        table = RecordState._meta.db_table
+        for kind, ids in self._closing_by_kind().items():
+            statements.append((
+                f"UPDATE {table} SET valid_to = %s WHERE project_id = %s AND kind = %s "
+                "AND object_id = ANY(%s) AND valid_to IS NULL",
+                [self.revision, self.project.pk, kind, ids],
+            ))
+        run_together(statements, (
+            f"UPDATE {Project._meta.db_table} SET revision = %s, record_digest = %s, head_digest = %s WHERE id = %s",
+            [self.revision, revision.digest, revision.digest, self.project.pk],
+        ))
+
+    def _closing_by_kind(self) -> dict[str, list[int]]:
         by_kind: dict[str, list[int]] = {}
-        for kind, object_id in self._closing:
+        for kind, object_id in sorted(self._closing):
             by_kind.setdefault(kind, []).append(object_id)
-        for kind, ids in by_kind.items():
+        return by_kind
+
+    def _close_rows(self) -> None:
+        for kind, ids in self._closing_by_kind().items():
             RecordState.objects.filter(
                 project=self.project, kind=kind, object_id__in=ids, valid_to__isnull=True
             ).update(valid_to=self.revision)

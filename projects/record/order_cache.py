@@ -13,6 +13,7 @@ database.
 
 from __future__ import annotations
 
+import pickle
 import threading
 from dataclasses import dataclass
 
@@ -70,8 +71,9 @@ def _catch_up(project: Project, cached: _Cached) -> IncrementalOrder | None:
     order = cached.order
     if cached.revision == project.revision:
         return order
+    # Bounded by the revision read: outside the write lock, later revisions may be committing.
     entries = ChangeLogEntry.objects.filter(
-        project=project, revision__gt=cached.revision, object_kind="relationship"
+        project=project, revision__gt=cached.revision, revision__lte=project.revision, object_kind="relationship"
     ).order_by("revision", "id")
     for action, before, after in entries.values_list("action", "before", "after"):
         if action.endswith(".added"):
@@ -105,6 +107,30 @@ def checkout(project: Project) -> IncrementalOrder:
 
     transaction.on_commit(_return)
     return order
+
+
+def private_copy(order: IncrementalOrder) -> IncrementalOrder:
+    """An independent copy of ``order`` (a pickle round trip: several times faster than ``deepcopy``)."""
+    return pickle.loads(pickle.dumps(order, protocol=pickle.HIGHEST_PROTOCOL))
+
+
+def snapshot(project: Project) -> IncrementalOrder:
+    """A private copy of the order at ``project.revision`` (as just read), for planning without the lock.
+
+    The cached order is brought up to date and put back for the next write;
+    the caller owns the copy and may add to it freely.
+    """
+    with _lock:
+        cached = _registry.pop(project.pk, None)
+    order = _catch_up(project, cached) if cached is not None else None
+    if order is None:
+        order = build_order(project)
+    private = private_copy(order)
+    with _lock:
+        current = _registry.get(project.pk)
+        if current is None or current.revision < project.revision:
+            _registry[project.pk] = _Cached(project.revision, project.record_digest, order)
+    return private
 
 
 def forget(project_id: int | None = None) -> None:

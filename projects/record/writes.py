@@ -50,6 +50,10 @@ __all__ = [
 
 #: Every wording a recorder may use, canonical and inverse.
 WORDINGS = sorted(set(ORDERED_TYPES) | set(EQUALITY_TYPES) | set(INVERSE_WORDINGS))
+_WORDING_SET = frozenset(WORDINGS)
+# Django's ``Choices.values`` is rebuilt on every access; the write path asks per item.
+KINDS = frozenset(ContextKind.values)
+CERTAINTIES = frozenset(Certainty.values)
 
 
 @dataclass(frozen=True)
@@ -75,6 +79,8 @@ def parse_uid(value, field="uid"):
     """A client-generated uid as a UUID (None when not given); refused naming ``field``."""
     if value is None or value == "":
         return None
+    if isinstance(value, uuid_module.UUID):
+        return value
     try:
         return uuid_module.UUID(str(value))
     except ValueError:
@@ -126,7 +132,7 @@ def _clean_context_fields(fields: dict, *, partial: bool) -> dict:
         cleaned["label"] = label
     if "kind" in fields or not partial:
         kind = fields.get("kind") or ""
-        if kind not in ContextKind.values:
+        if kind not in KINDS:
             raise RecordInvalid(
                 f"kind must be one of {', '.join(ContextKind.values)}", field="kind", code="invalid-choice"
             )
@@ -306,10 +312,10 @@ def _cycle_body(steps, labels: dict[int, str]) -> list[dict]:
 def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
     project = changes.project
     wording = data.get("type")
-    if wording not in WORDINGS:
+    if wording not in _WORDING_SET:
         raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice")
     certainty = data.get("certainty") or Certainty.CERTAIN
-    if certainty not in Certainty.values:
+    if certainty not in CERTAINTIES:
         raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
     note = data.get("note") or ""
     if not isinstance(note, str):

@@ -54,7 +54,8 @@ def test_a_context_of_another_project_is_refused_exactly_as_a_missing_one(projec
     missing = _refusal(project, actor, ours["1001"].id, "above", missing_id)
     # No existence oracle: the same code, and a message that differs only by the id asked for.
     assert (elsewhere.code, elsewhere.field) == (missing.code, missing.field) == ("unknown-context", "object")
-    assert elsewhere.message.replace(str(theirs["Q1"].id), "N") == missing.message.replace(str(missing_id), "N")
+    asked = (f"context {theirs['Q1'].id} ", f"context {missing_id} ")
+    assert elsewhere.message.replace(asked[0], "context N ") == missing.message.replace(asked[1], "context N ")
 
 
 def test_a_context_related_to_itself_is_refused(project, actor):

@@ -19,8 +19,8 @@ from projects.models import Role
 from projects.record.errors import RecordError, RecordInvalid
 
 from ..access import actor, require
+from ..comparison import comparison
 from .common import frame, project_page, query_without, refused, render_page
-from .order import _svg_or_error, version_svg
 
 #: Which role each action needs (the API's ``action_roles``) and which status it starts from.
 ACTIONS = {
@@ -121,13 +121,7 @@ def compare(request, project):
     context = frame(request, project, "versions", rows=rows, a_id=a_id, b_id=b_id)
     if a_id.isdigit() and b_id.isdigit():
         old, new = _version(project, int(a_id)), _version(project, int(b_id))
-        result = services.diff_versions(old, new)
-        changed = result["diff"].get("contexts", {})
-        marked = sorted({c["context"] for part in ("moved", "phased", "unphased") for c in changed.get(part, [])})
-        left, left_problem = _svg_or_error(lambda: version_svg(old))
-        right, right_problem = _svg_or_error(lambda: version_svg(new))
-        context.update(old=old, new=new, text=result["text"], marked=marked, left=left, right=right,
-                       left_problem=left_problem, right_problem=right_problem)
+        context.update(old=old, new=new, **comparison(old, new))
     return render_page(request, "web/compare.html", context)
 
 

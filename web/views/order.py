@@ -18,11 +18,13 @@ from ..access import require
 from .common import frame, project_page, render_page, revision_of
 
 
-def version_svg(version) -> str:
-    """The phased diagram of one interpretation version (the API's diagram with ``?version=``)."""
+def version_svg(version, area: str | None = None) -> str:
+    """The phased diagram of one interpretation version (the API's diagram with ``?version=``), or one area of it."""
     order, phases, phase_of = order_service.version_order(version)
     title = f"{version.project.name} — {version.interpretation.name} v{version.number}"
-    return order_service.diagram_svg(order, phases=phases, phase_of=phase_of, title=title)
+    if area:
+        title += f", area {area}"
+    return order_service.diagram_svg(order, area=area, phases=phases, phase_of=phase_of, title=title)
 
 
 def _svg_or_error(draw) -> tuple[str | None, dict | None]:
@@ -40,7 +42,7 @@ def diagram(request, project):
     versions = list(Version.objects.filter(project=project).select_related("interpretation").order_by("-id")[:100])
     chosen = next((v for v in versions if str(v.pk) == request.GET.get("version", "")), None)
     if chosen is not None:
-        svg, problem = _svg_or_error(lambda: version_svg(chosen))
+        svg, problem = _svg_or_error(lambda: version_svg(chosen, area))
     else:
         svg, problem = _svg_or_error(lambda: order_service.diagram_svg(order_service.record_order(project, revision),
                                                                        area=area))

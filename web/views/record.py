@@ -130,7 +130,8 @@ def context_detail(request, project, context_id: int):
     _version, phase_of, names = _current_phasing(project)
     return render_page(request, "web/context.html", frame(
         request, project, "contexts", revision=revision, context=state.data,
-        later=[r for r in rows if r["later_id"] == context_id], earlier=[r for r in rows if r["earlier_id"] == context_id],
+        # "Later than it": the relationships whose other, later end is another context; and the reverse.
+        later=[r for r in rows if r["earlier_id"] == context_id], earlier=[r for r in rows if r["later_id"] == context_id],
         samples=samples, determinations=determinations, dated=dated, history=history,
         phase=names.get(phase_of.get(context_id), ""),
     ))

@@ -22,6 +22,7 @@ from chronology.runs.models import Run
 from chronology.runs.results import NOT_CONVERGED
 from chronology.runs.service import DEFAULTS, submit_run
 from chronology.runs.sources import find_version
+from chronology.weighing.evidence_jobs import recent_weighings
 from projects.models import Role
 
 from ..access import require
@@ -48,7 +49,7 @@ def runs(request, project):
     return render_page(request, "web/runs.html", frame(
         request, project, "runs", rows=rows, versions=_committed(project)[:100],
         defaults={**DEFAULTS, "iterations": 2000, "warmup": 500},
-        chosen=request.GET.get("version", ""),
+        chosen=request.GET.get("version", ""), weighings=recent_weighings(project),
     ))
 
 

@@ -9,6 +9,8 @@ the phase order and for nothing else.
 
 from __future__ import annotations
 
+from ..labels import label_list, sort_labels
+
 __all__ = [
     "OKABE_ITO",
     "KIND_STYLE",
@@ -93,10 +95,13 @@ def text_width(text: str, size: float = FONT_SIZE) -> float:
 
 
 def node_text(label: str, members) -> str:
-    """Text shown in a box: the label, plus the rest of a merged class."""
+    """Text shown in a box: the label, then the other labels of a merged class in words.
+
+    Two or three labels are all shown ("1013 and 2013"); a longer class shows
+    two and says how many more there are ("1013, 2013 and two more"); the box's
+    tooltip lists them all.
+    """
     others = [m for m in members if m != label]
     if not others:
         return label
-    if len(others) == 1 and len(label) + len(others[0]) <= 12:
-        return f"{label} = {others[0]}"
-    return f"{label} =+{len(others)}"
+    return label_list([label, *sort_labels(others)], limit=3, sort=False)

@@ -15,6 +15,7 @@ import textwrap
 from xml.sax.saxutils import escape, quoteattr
 
 from ..errors import DiagramError
+from ..labels import label_list
 from .model import KINDS, Layout, NodeBox
 from .style import (
     BAND_FILLS,
@@ -210,7 +211,7 @@ def _node_title(box: NodeBox) -> str:
     if box.area:
         bits.append(f"area {box.area}")
     if len(box.members) > 1:
-        bits.append("one unit with " + ", ".join(box.members))
+        bits.append("one unit with " + label_list(box.members))
     return "; ".join(bits)
 
 

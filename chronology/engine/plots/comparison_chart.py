@@ -20,7 +20,7 @@ from matplotlib.patches import Patch, Rectangle
 from .figure_parts import COLOURS, draw_calendar_axis, draw_notes, notes_height, render
 from .interval_chart import ChartRow
 
-__all__ = ["PairedRow", "ComparisonGroup", "comparison_chart"]
+__all__ = ["PairedRow", "ComparisonGroup", "comparison_chart", "comparison_chart_figure"]
 
 _ROW_IN = 0.34
 
@@ -47,11 +47,16 @@ def _draw(ax, row: ChartRow, y: float, colour: str, marker: str, tag: str) -> No
         ax.add_line(Line2D([a, b], [y, y], color=colour, lw=1.0, solid_capstyle="butt", gid=f"{tag}-95.4-{i}"))
     for i, (a, b) in enumerate(row.hpd68):
         ax.add_line(Line2D([a, b], [y, y], color=colour, lw=3.5, solid_capstyle="butt", gid=f"{tag}-68.3-{i}"))
-    ax.plot([row.median], [y], marker=marker, markersize=4.5, color=colour, markerfacecolor="white",
-            markeredgewidth=1.1, zorder=5)
+    ax.add_line(Line2D([row.median], [y], lw=0, marker=marker, markersize=4.5, color=colour, markerfacecolor="white",
+                       markeredgewidth=1.1, zorder=5))
 
 
 def comparison_chart(groups, first_heading, second_heading, fmt: str = "svg", *, dpi: int = 110) -> bytes:
+    """Render :func:`comparison_chart_figure` as ``svg`` or ``png`` bytes."""
+    return render(comparison_chart_figure(groups, first_heading, second_heading), fmt, dpi)
+
+
+def comparison_chart_figure(groups, first_heading, second_heading) -> Figure:
     """Render two runs' ranges of shared events side by side; SVG or PNG bytes.
 
     ``first_heading`` and ``second_heading`` are the runs'
@@ -115,7 +120,7 @@ def comparison_chart(groups, first_heading, second_heading, fmt: str = "svg", *,
     fig.text(0.02, 1 - 0.1 / height, title, ha="left", va="top", fontsize=10, weight="bold", linespacing=1.3,
              color=COLOURS["warning"] if merged.not_converged else COLOURS["ink"], gid="figure-title")
     draw_notes(fig, merged, height_in=height, width_chars=150)
-    return render(fig, fmt, dpi)
+    return fig
 
 
 def _merged(a, b):

@@ -20,7 +20,7 @@ from matplotlib.patches import Patch
 
 from .figure_parts import COLOURS, FigureHeading, draw_calendar_axis, draw_heading, draw_notes, notes_height, render
 
-__all__ = ["DensityPanel", "density_grid"]
+__all__ = ["DensityPanel", "density_grid", "density_grid_figure"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -45,14 +45,31 @@ def _view(p: DensityPanel) -> tuple[float, float]:
     return lo - pad, hi + pad
 
 
+def _within(p: DensityPanel, lo: float, hi: float) -> DensityPanel:
+    keep = (p.years >= lo) & (p.years <= hi)
+    return DensityPanel(p.label, p.kind, p.years[keep], p.density[keep], p.hpd95,
+                        None if p.unmodelled is None else p.unmodelled[keep])
+
+
+def _legend_count(panels) -> int:
+    return 3 + any(p.kind == "boundary" for p in panels) + any(p.kind == "undated" for p in panels)
+
+
 def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: int = 3, dpi: int = 110) -> bytes:
     """Render the panels as a grid, ``columns`` wide; SVG or PNG bytes."""
+    return render(density_grid_figure(panels, heading, columns=columns), fmt, dpi)
+
+
+def density_grid_figure(panels, heading: FigureHeading, *, columns: int = 3) -> Figure:
+    """The matplotlib Figure of :func:`density_grid` (to render in more than one format)."""
     panels = [p for p in panels if p.density.max() > 0]
     if not panels:
         raise ValueError("no event to draw")
     cols = min(columns, len(panels))
     rows = math.ceil(len(panels) / cols)
-    foot = notes_height(heading) + 0.45
+    legend_rows = math.ceil(_legend_count(panels) / 3)
+    # the bottom row's tick labels, then the legend, then the notes
+    foot = notes_height(heading) + 0.45 + 0.2 * legend_rows
     head = 0.75
     height = head + 1.7 * rows + foot
     fig = Figure(figsize=(3.1 * cols + 0.4, height))
@@ -63,6 +80,8 @@ def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: i
         ax.set_visible(False)
     for ax, p in zip(axes.flat, panels):
         colour = COLOURS.get(p.kind, COLOURS["dated"])
+        lo, hi = _view(p)
+        p = _within(p, lo, hi)  # only what the panel shows is drawn (and stored in the SVG)
         d = p.density / p.density.max()
         ax.fill_between(p.years, 0, d, color=colour, alpha=0.25, lw=0)
         for a, b in p.hpd95:
@@ -76,7 +95,7 @@ def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: i
         ax.set_yticks([])
         for side in ("left", "right", "top"):
             ax.spines[side].set_visible(False)
-        draw_calendar_axis(ax, *_view(p), max_ticks=4, label=False, fontsize=6.5)
+        draw_calendar_axis(ax, lo, hi, max_ticks=3, label=False, fontsize=6.5)
         ax.set_title(p.label, fontsize=8, loc="left")
     handles = [Patch(facecolor=COLOURS["dated"], alpha=0.25, label="modelled density"),
                Patch(facecolor=COLOURS["dated"], alpha=0.6, label="inside the 95.4% highest-density range"),
@@ -89,4 +108,4 @@ def density_grid(panels, heading: FigureHeading, fmt: str = "svg", *, columns: i
                ncol=3, fontsize=7, frameon=False)
     draw_heading(fig, heading, "Densities of chosen events (cal BC / cal AD)", top_in=head, height_in=height)
     draw_notes(fig, heading, height_in=height, width_chars=int(40 * cols))
-    return render(fig, fmt, dpi)
+    return fig

@@ -122,8 +122,8 @@ def interval_chart_figure(groups, heading: FigureHeading, *, extent: tuple[float
             for i, (a, b) in enumerate(r.hpd68):
                 ax.add_line(Line2D([a, b], [y, y], color=colour, lw=4.0, solid_capstyle="butt",
                                    gid=f"range-{row_no}-68.3-{i}", zorder=4))
-            ax.plot([r.median], [y], marker=MARKERS.get(r.kind, "o"), markersize=5, color=colour,
-                    markerfacecolor="white", markeredgewidth=1.2, zorder=5, gid=f"median-{row_no}")
+            ax.add_line(Line2D([r.median], [y], lw=0, marker=MARKERS.get(r.kind, "o"), markersize=5, color=colour,
+                               markerfacecolor="white", markeredgewidth=1.2, zorder=5, gid=f"median-{row_no}"))
             ax.text(-0.42, y, r.label, transform=ax.get_yaxis_transform(), ha="left", va="center", fontsize=7.5,
                     color=COLOURS["ink"])
             y -= 1

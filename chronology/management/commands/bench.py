@@ -20,6 +20,13 @@ SUITES = {
     "calibration": "chronology.benchmarks.calibration",
     "sampler": "chronology.benchmarks.sampler",
     "calibration-check": "chronology.benchmarks.calibration_check",
+    "sync": "chronology.benchmarks.sync",
+    "coverage": "chronology.benchmarks.coverage",
+    "evidence": "chronology.benchmarks.evidence",
+    "outputs": "chronology.benchmarks.outputs",
+    # The package's own suite lives with it (exchange sits above chronology; named here, imported on demand).
+    "exchange": "exchange.benchmark",
+    "pages": "web.benchmarks",
 }
 
 
@@ -39,13 +46,15 @@ class Command(BaseCommand):
         except ImportError as exc:
             raise CommandError(f"suite {suite} is not available: {exc}") from exc
         kwargs = {}
-        if suite == "record":
+        if suite in ("record", "sync"):
             if contexts:
                 kwargs["contexts"] = contexts[0]
-            if posts:
+            if posts and suite == "record":
                 kwargs["posts"] = posts
         elif contexts and suite in ("graph", "diagram"):
             kwargs["sizes"] = tuple(contexts)
+        elif contexts and suite == "pages":
+            kwargs.update(contexts=contexts[0], relationships=contexts[0] * 5 // 4)
         elif contexts and suite == "alternatives":
             kwargs["contexts"] = contexts[0]
         if quick:

@@ -1,0 +1,1 @@
+"""Weighing readings by the evidence (marginal likelihoods, Bayes factors) and sensitivity runs."""
