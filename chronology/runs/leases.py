@@ -28,8 +28,8 @@ from .models import TERMINAL_STATES, ChainState, Run, RunChain, RunState
 from .outcomes import cancel_locked
 from .results import load_chain
 
-__all__ = ["lease_seconds", "heartbeat_seconds", "max_attempts", "worker_name", "holder_alive", "lease_live",
-           "held", "Claim", "claim", "renew", "stored_draws", "lost_chain_error"]
+__all__ = ["lease_seconds", "heartbeat_seconds", "max_attempts", "this_host", "worker_name", "holder_alive",
+           "lease_live", "held", "Claim", "claim", "renew", "stored_draws", "lost_chain_error"]
 
 
 def lease_seconds() -> float:
@@ -45,14 +45,27 @@ def max_attempts() -> int:
     return max(1, int(settings.TELLSTACK_RUN_MAX_ATTEMPTS))
 
 
+def this_host() -> str:
+    """This host's name, and its process-id namespace where it has one.
+
+    Containers sharing the host's name (host networking) each have their own
+    process ids: only a holder of the same namespace can be looked up.
+    """
+    try:
+        namespace = os.stat("/proc/self/ns/pid").st_ino
+    except OSError:
+        return socket.gethostname()
+    return f"{socket.gethostname()}/pid-ns-{namespace}"
+
+
 def worker_name() -> str:
-    return f"{socket.gethostname()}:{os.getpid()}"
+    return f"{this_host()}:{os.getpid()}"
 
 
 def holder_alive(worker: str) -> bool:
-    """False only when ``worker`` names a process of THIS host that no longer exists."""
+    """False only when ``worker`` names a process of THIS host (and namespace) that no longer exists."""
     host, _, pid = (worker or "").rpartition(":")
-    if host != socket.gethostname() or not pid.isdigit():
+    if host != this_host() or not pid.isdigit():
         return True
     if int(pid) == os.getpid():
         return True

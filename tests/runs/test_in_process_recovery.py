@@ -8,7 +8,6 @@ now and then (any page or endpoint), and whenever runs are read.
 from __future__ import annotations
 
 import os
-import socket
 import subprocess
 import sys
 from datetime import timedelta
@@ -55,7 +54,7 @@ def hold(monkeypatch, run, worker):
 
 def test_a_run_whose_server_process_died_ends_interrupted_on_the_next_request_of_any_kind(
         inline_run, monkeypatch, client_for, fresh_process):
-    hold(monkeypatch, inline_run, f"{socket.gethostname()}:{dead_pid()}")  # its lease still runs
+    hold(monkeypatch, inline_run, f"{leases.this_host()}:{dead_pid()}")  # its lease still runs
     assert client_for(Role.VIEWER).get("/api/v1/health/").status_code == 200
     run = Run.objects.get(pk=inline_run.pk)
     assert run.state == RunState.FAILED and run.error["code"] == "interrupted"
@@ -63,7 +62,7 @@ def test_a_run_whose_server_process_died_ends_interrupted_on_the_next_request_of
 
 
 def test_a_run_sampled_by_a_live_process_is_left_alone(inline_run, monkeypatch, client_for, fresh_process):
-    hold(monkeypatch, inline_run, f"{socket.gethostname()}:{os.getppid()}")
+    hold(monkeypatch, inline_run, f"{leases.this_host()}:{os.getppid()}")
     client_for(Role.VIEWER).get(_runs(inline_run.project, inline_run.pk))
     assert Run.objects.get(pk=inline_run.pk).state == RunState.RUNNING
 
@@ -88,7 +87,7 @@ def test_requests_sweep_at_most_once_a_period(monkeypatch, fresh_process, settin
 
 def test_an_interrupted_run_continues_in_process_to_done(inline_run, monkeypatch, client_for, fresh_process,
                                                          django_capture_on_commit_callbacks):
-    hold(monkeypatch, inline_run, f"{socket.gethostname()}:{dead_pid()}")
+    hold(monkeypatch, inline_run, f"{leases.this_host()}:{dead_pid()}")
     client = client_for(Role.ANALYST)
     client.get("/api/v1/health/")
     with django_capture_on_commit_callbacks(execute=True):

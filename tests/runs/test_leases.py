@@ -39,15 +39,20 @@ def claim_as(monkeypatch, run, k, worker):
 
 
 def test_a_process_of_this_host_that_has_ended_holds_nothing():
-    assert leases.holder_alive(f"{socket.gethostname()}:{dead_pid()}") is False
+    assert leases.holder_alive(f"{leases.this_host()}:{dead_pid()}") is False
 
 
 def test_a_running_process_of_this_host_is_alive():
-    assert leases.holder_alive(f"{socket.gethostname()}:{os.getppid()}") is True
+    assert leases.holder_alive(f"{leases.this_host()}:{os.getppid()}") is True
 
 
 def test_a_process_of_another_host_is_taken_as_alive_until_its_lease_runs_out():
     assert leases.holder_alive(f"another-host.invalid:{dead_pid()}") is True
+
+
+def test_a_process_of_another_pid_namespace_with_the_same_host_name_is_taken_as_alive():
+    # containers sharing the host's name each number their own processes
+    assert leases.holder_alive(f"{socket.gethostname()}/pid-ns-1:{dead_pid()}") is True
 
 
 def test_a_claim_sets_a_lease_renewed_by_heartbeats(queued, settings):
@@ -69,7 +74,7 @@ def test_a_chain_leased_to_a_live_worker_elsewhere_is_busy(queued, monkeypatch):
 
 def test_a_redelivered_chain_of_a_killed_pool_process_is_taken_over_at_once(queued, monkeypatch):
     # the pool process was killed: its lease still runs, but its process is gone
-    assert claim_as(monkeypatch, queued, 0, f"{socket.gethostname()}:{dead_pid()}") == "sample"
+    assert claim_as(monkeypatch, queued, 0, f"{leases.this_host()}:{dead_pid()}") == "sample"
     assert tasks.execute_chain(str(queued.pk), 0) == "sampled"
     chain = RunChain.objects.get(run=queued, index=0)
     assert chain.state == ChainState.DONE and chain.worker == leases.worker_name()

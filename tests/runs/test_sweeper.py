@@ -7,7 +7,6 @@ what a worker killed in the middle of a chain leaves in the database.
 
 from __future__ import annotations
 
-import socket
 import time
 from datetime import timedelta
 
@@ -142,7 +141,7 @@ def test_cancel_ends_at_the_next_sweep_without_a_broker_too(queued, monkeypatch)
 
 
 def test_cancel_ends_at_once_when_the_chain_holder_is_a_dead_process_on_this_host(queued, monkeypatch):
-    claim_as(monkeypatch, queued, 0, worker=f"{socket.gethostname()}:{dead_pid()}")
+    claim_as(monkeypatch, queued, 0, worker=f"{leases.this_host()}:{dead_pid()}")
     assert cancel_run(queued).state == RunState.CANCELLED
 
 
@@ -219,7 +218,7 @@ def _combine_claimed_by(run, worker, monkeypatch):
 
 
 def test_a_combine_whose_pool_process_was_killed_is_taken_over_by_the_redelivered_message(queued, monkeypatch):
-    _combine_claimed_by(queued, f"{socket.gethostname()}:{dead_pid()}", monkeypatch)
+    _combine_claimed_by(queued, f"{leases.this_host()}:{dead_pid()}", monkeypatch)
     assert tasks.execute_chain(str(queued.pk), 1) == "stored"
     run = Run.objects.get(pk=queued.pk)
     assert run.state == RunState.DONE, run.error
