@@ -29,3 +29,11 @@ def test_a_reference_run_after_a_smaller_one_was_stopped_is_skipped():
     history = {("rustworkx", "sequence_over_bottom"): (50000, None)}
     ref = bench._reference("rustworkx", bench._rustworkx_child, "sequence_over_bottom", 100000, 0, 300.0, history)
     assert ref["seconds"] is None and "did not finish" in ref["note"]
+
+
+def test_only_the_named_reference_library_is_run():
+    result = bench.run(sizes=(200,), shapes=("side_by_side",), references=("rustworkx",), incremental_orders=())
+    (case,) = result["cases"]
+    assert case["rustworkx_seconds"] is not None
+    assert case["networkx_seconds"] is None and case["networkx_note"] == "not run"
+    assert result["incremental"] == []
