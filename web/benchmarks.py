@@ -3,7 +3,7 @@
 ``python manage.py bench pages --json`` builds, on the configured database, a
 project of 20,000 contexts and 25,000 relationships through the record's one
 write path (sync batches of 5,000 items), two committed interpretation
-versions that phase it differently, and times in process (Django's test
+versions that phase it differently (the first approved and current), and times in process (Django's test
 client, a signed-in manager) the organisation home, the contexts table's first
 page, the change feed's first page and the comparison of the two versions:
 median and 95th percentile over 20 requests after one warm-up request, and the
@@ -67,7 +67,20 @@ def build(contexts: int, relationships: int, *, tag: str | None = None) -> dict:
         sync_batch(project, actor, batch_id=uuid.uuid4(), relationships=rels[i:i + MAX_ITEMS])
     project.refresh_from_db()
     versions = [_version(project, actor, name, share) for name, share in (("Lower half early", 2), ("Lower third early", 3))]
-    return {"org": org, "user": user, "project": project, "versions": versions}
+    built = {"org": org, "user": user, "project": project, "versions": versions}
+    make_first_current(built)
+    return built
+
+
+def make_first_current(built: dict) -> None:
+    """Approve the first version and make it the current reading (the contexts table shows its phases)."""
+    from chronology.interpretations.models import Reading
+
+    if Reading.objects.filter(project=built["project"]).exists():
+        return
+    actor = Actor(user=built["user"], device="bench")
+    first = services.propose(built["versions"][0], actor)
+    services.make_current(services.approve(first, actor, reason="benchmark reading"), actor)
 
 
 def _version(project, actor, name: str, share: int):
@@ -151,6 +164,7 @@ def run(contexts: int = 20000, relationships: int = 25000, requests: int = 20, f
         taken = Organisation.objects.filter(slug=f"bench-pages-{contexts}-{relationships}").exists()
         tag = uuid.uuid4().hex[:8] if taken or fresh else f"pages-{contexts}-{relationships}"
         built = build(contexts, relationships, tag=tag)
+    make_first_current(built)
     build_seconds = time.perf_counter() - started
     if connection.vendor == "postgresql":
         with connection.cursor() as cursor:
