@@ -24,15 +24,15 @@ KEEP_SECONDS = 24 * 3600
 def _key(old, new) -> str | None:
     if Status.DRAFT in (old.status, new.status) or not (old.content_hash and new.content_hash):
         return None
-    return f"web:compare:v1:{old.pk}:{old.content_hash}:{new.pk}:{new.content_hash}"
+    return f"web:compare:v2:{old.pk}:{old.content_hash}:{new.pk}:{new.content_hash}"
 
 
 def drawing(version) -> tuple[str | None, dict | None]:
     """The version's phased diagram (SVG), or why it is not drawn here."""
     size = reads.states(version.project, "context", version.record_revision).count()
     if size > MAX_DRAWN:
-        areas = sorted(a for a in reads.states(version.project, "context", version.record_revision)
-                       .values_list("data__area", flat=True).distinct() if a)
+        areas = sorted({a for a in reads.states(version.project, "context", version.record_revision)
+                        .order_by().values_list("data__area", flat=True).distinct() if a})
         return None, {"code": "too-large-to-draw", "areas": areas,
                       "message": f"{size} contexts are too many to draw side by side (at most {MAX_DRAWN}); "
                                  "open this version's diagram one area at a time."}

@@ -528,7 +528,9 @@ def diff_versions(old: Version, new: Version) -> dict:
     if old.project_id != new.project_id:
         raise RecordNotFound("both versions must belong to the project")
     project = new.project
-    rec_old, rec_new = record_at(project, old.record_revision), record_at(project, new.record_revision)
+    rec_old = record_at(project, old.record_revision)
+    # Both versions are often of one revision: the record is read once (it is only read here, never changed).
+    rec_new = rec_old if new.record_revision == old.record_revision else record_at(project, new.record_revision)
     a = doc.with_effective_decisions(old.content, rec_old.by_id)
     b = doc.with_effective_decisions(new.content, rec_new.by_id)
     _mark_absent(a, b, rec_new)

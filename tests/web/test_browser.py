@@ -14,6 +14,7 @@ the scenarios assert afterwards, they read from the pages.
 
 from __future__ import annotations
 
+import json
 import re
 import shutil
 
@@ -203,3 +204,27 @@ def test_a_user_of_the_second_organisation_gets_404_on_every_page_of_the_first(k
     page = _sign_in(browser, live_server, known["names"]["outsider"])
     statuses = {name: page.goto(live_server.url + url).status for name, url in known["urls"].items()}
     assert {name: status for name, status in statuses.items() if status != 404} == {}
+
+
+def test_a_run_page_follows_the_progress_its_poll_reports_until_the_run_ends(known, live_server, browser):
+    page = _sign_in(browser, live_server, known["names"][Role.ANALYST])
+    answers = iter([
+        {"state": "running", "terminal": False, "converged": None,
+         "progress": {"fraction": 0.5, "chains": [{"chain": 0, "state": "running", "sweeps_done": 250,
+                                                   "sweeps_total": 500, "fraction": 0.5}]}},
+    ])
+
+    def poll(route):
+        # The fixture's run is queued with no worker; the poll's answers are played here instead.
+        answer = next(answers, None)
+        if answer is None:
+            route.abort()
+        else:
+            route.fulfill(status=200, content_type="application/json", body=json.dumps(answer))
+
+    page.route("**" + known["urls"]["run progress"], poll)
+    page.goto(live_server.url + known["urls"]["run"])
+    assert page.inner_text("#run-state") == "queued"
+    page.wait_for_function("document.getElementById('run-state').textContent === 'running'")
+    assert page.inner_text("[data-overall]") == "50"
+    assert page.inner_text('[data-chain="0"] [data-chain-sweeps]') == "250 / 500"

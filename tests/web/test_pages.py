@@ -119,6 +119,7 @@ def test_a_comparison_too_large_to_draw_says_so_and_links_each_area_of_each_vers
     html = client.get(url + f"?a={site['second'].pk}&b={site['first'].pk}").content.decode()
     assert "<svg" not in html and "too many to draw side by side" in html
     assert f"?version={site['first'].pk}&amp;area=A" in html and f"?version={site['second'].pk}&amp;area=A" in html
+    assert html.count('&amp;area=A">A</a>') == 2  # each area once per version, not once per context
 
 
 def test_the_diagram_of_a_version_can_be_drawn_one_area_at_a_time(site, web_client):

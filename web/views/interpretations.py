@@ -36,8 +36,13 @@ def _versions(project):
     return Version.objects.filter(project=project).select_related("interpretation", "author", "status_changed_by")
 
 
-def _version(project, version_id) -> Version:
-    version = _versions(project).select_related("project").filter(pk=version_id).first()
+#: The large documents of a version, left out of lists (a version of a big site holds megabytes of them).
+HEAVY = ("content", "validity")
+
+
+def _version(project, version_id, *, light: bool = False) -> Version:
+    qs = _versions(project).select_related("project")
+    version = (qs.defer(*HEAVY) if light else qs).filter(pk=version_id).first()
     if version is None:
         raise Http404("no such version")
     return version
@@ -49,7 +54,7 @@ def _current_id(project):
 
 @project_page
 def versions(request, project):
-    rows = list(_versions(project).order_by("interpretation__name", "-number"))
+    rows = list(_versions(project).defer(*HEAVY).order_by("interpretation__name", "-number"))
     return render_page(request, "web/versions.html", frame(
         request, project, "versions", rows=rows, current_id=_current_id(project),
         committed=[v for v in rows if v.status != Status.DRAFT],
@@ -70,7 +75,7 @@ def version_detail(request, project, version_id: int):
         phases=[{"name": p["name"], "key": p["key"], "contexts": counts.get(p["key"], 0),
                  "arrangement": (p.get("to_next") or {}).get("arrangement", "")} for p in content.get("phases", [])],
         content=content, phase_names=phase_names,
-        others=_versions(project).exclude(pk=version.pk).order_by("-id")[:50],
+        others=_versions(project).defer(*HEAVY).exclude(pk=version.pk).order_by("-id")[:50],
         jobs=Job.objects.filter(project=project, kind=alternatives.JOB_KIND, params__version=version.pk)
         .order_by("-created_at")[:5],
     ))
@@ -116,11 +121,12 @@ def version_action(request, project, version_id: int, name: str):
 @project_page
 def compare(request, project):
     """Two versions side by side: the content difference and both phased diagrams, changed contexts marked."""
-    rows = list(_versions(project).order_by("-id")[:200])
+    rows = list(_versions(project).defer(*HEAVY).order_by("-id")[:200])
     a_id, b_id = request.GET.get("a", ""), request.GET.get("b", "")
     context = frame(request, project, "versions", rows=rows, a_id=a_id, b_id=b_id)
     if a_id.isdigit() and b_id.isdigit():
-        old, new = _version(project, int(a_id)), _version(project, int(b_id))
+        # Their documents are read only if the comparison is not kept already.
+        old, new = _version(project, int(a_id), light=True), _version(project, int(b_id), light=True)
         context.update(old=old, new=new, **comparison(old, new))
     return render_page(request, "web/compare.html", context)
 

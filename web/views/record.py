@@ -70,7 +70,9 @@ def contexts(request, project):
         qs = qs.filter(object_id__in=[cid for cid, key in phase_of.items() if key == phase])
     rows = page(request, qs.only("object_id", "data"))
     items = [{**s.data, "phase": phase_names.get(phase_of.get(s.object_id), "")} for s in rows]
-    areas = sorted(set(reads.states(project, "context", revision).values_list("data__area", flat=True).distinct()))
+    # No ordering, or the states' default order would enter the DISTINCT and return every row.
+    areas = sorted(set(reads.states(project, "context", revision).order_by().values_list("data__area", flat=True)
+                       .distinct()))
     return render_page(request, "web/contexts.html", frame(
         request, project, "contexts", revision=revision, rows=rows, items=items, version=version,
         filters={"area": area, "kind": kind, "phase": phase, "q": text}, areas=[a for a in areas if a],
