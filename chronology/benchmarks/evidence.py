@@ -31,7 +31,7 @@ from chronology.engine.sampler import warm_up
 __all__ = ["run", "QUICK", "SETTINGS"]
 
 #: Settings of the full run (the target: relative Monte Carlo error of the Bayes factor <= 10 % in <= 2 min).
-SETTINGS = SteppingStoneSettings(stones=24, draws=300, thin=2, warmup=150, repeats=14, prior_thin_factor=4)
+SETTINGS = SteppingStoneSettings(stones=24, draws=300, thin=2, warmup=150, repeats=40, prior_thin_factor=4)
 QUICK = {"settings": SteppingStoneSettings(stones=8, draws=100, thin=1, warmup=50, repeats=2)}
 
 
