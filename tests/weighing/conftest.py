@@ -21,7 +21,7 @@ from tests.runs.conftest import _media, analyst_actor, build_site  # noqa: F401 
 
 #: Few, short stones: enough to exercise the path, not to be precise.
 QUICK = {"stones": 8, "draws": 60, "thin": 1, "warmup": 30, "repeats": 2}
-QUICK_SAMPLING = {"chains": 2, "iterations": 2500, "warmup": 300}
+QUICK_SAMPLING = {"chains": 2, "iterations": 1500, "warmup": 300}
 
 
 def _commit(project, analyst, content, name):
