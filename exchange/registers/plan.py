@@ -107,7 +107,9 @@ def check(project: Project, planned: Planned) -> tuple[dict, list, list]:
         twin = (type_, earlier, later) if type_ in EQUALITY_TYPES else None
         if key in recorded or (twin and twin in recorded):
             if recorded.get(key, recorded.get(twin)) != data["certainty"]:
-                planned.problems.append(Problem(row, "certainty", "duplicate-differs", f"{relationship_text(type_, labels[later], labels[earlier])} is recorded with another certainty"))
+                text = relationship_text(type_, labels[later], labels[earlier])
+                planned.problems.append(Problem(row, "certainty", "duplicate-differs",
+                                                f"{text} is recorded with another certainty"))
             else:
                 unchanged_rels += 1
             continue

@@ -128,7 +128,8 @@ def add_relationships(changes: ChangeSet, items) -> list[Relationship]:
     for (n, type_, later, earlier, *_rest), rel in zip(rows, made):
         order.add_context(later)
         order.add_context(earlier)
-        proposal = RelationshipData(id=None, type=type_, later=later, earlier=earlier, certain=rel.certainty == "certain")
+        proposal = RelationshipData(id=None, type=type_, later=later, earlier=earlier,
+                                    certain=rel.certainty == "certain")
         cycle = order.find_cycle(proposal)
         if cycle is not None:
             known = {c for step in cycle for c in (step.from_context, step.to_context)} - set(labels)
@@ -173,7 +174,9 @@ def _check_pairs(project, rows, contexts) -> None:
 def _keys(type_: str, later: int, earlier: int) -> list[tuple]:
     if type_ in EQUALITY_TYPES:
         return [(type_, min(later, earlier), max(later, earlier))]
-    return [(type_, later, earlier), ("ordered", later, earlier)] if type_ in ORDERED_TYPES else [(type_, later, earlier)]
+    if type_ in ORDERED_TYPES:
+        return [(type_, later, earlier), ("ordered", later, earlier)]
+    return [(type_, later, earlier)]
 
 
 def _text(type_, later, earlier, contexts) -> str:
