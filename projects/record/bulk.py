@@ -145,38 +145,41 @@ def add_relationships(changes: ChangeSet, items) -> list[Relationship]:
 
 
 def _check_pairs(project, rows, contexts) -> None:
-    """No relationship twice, and no inverse of an ordered one, in the batch or against the record."""
+    """No relationship twice, and no inverse of an ordered one, in the batch or against the record.
+
+    As one at a time: the same type between the same two contexts (either way for an equality) is a
+    duplicate; another ordered type the same way is allowed; an ordered one the other way is an inverse.
+    """
     seen: dict[tuple, int] = {}
+    ordered: dict[tuple, int] = {}
     for n, type_, later, earlier, *_rest in rows:
-        for key in _keys(type_, later, earlier):
-            if key in seen:
-                raise RecordConflict(f"{_text(type_, later, earlier, contexts)} is added twice", field="type",
-                                     code="duplicate", index=n)
-        if type_ in ORDERED_TYPES and ("ordered", earlier, later) in seen:
+        if _key(type_, later, earlier) in seen:
+            raise RecordConflict(f"{_text(type_, later, earlier, contexts)} is added twice", field="type",
+                                 code="duplicate", index=n)
+        if type_ in ORDERED_TYPES and (earlier, later) in ordered:
             raise RecordConflict(f"the inverse of {_text(type_, later, earlier, contexts)} is added too",
                                  field="type", code="inverse-recorded", index=n)
-        for key in _keys(type_, later, earlier):
-            seen[key] = n
+        seen[_key(type_, later, earlier)] = n
+        if type_ in ORDERED_TYPES:
+            ordered[(later, earlier)] = n
     ends = sorted({c for _n, _t, later, earlier, *_r in rows for c in (later, earlier)})
     existing = Relationship.objects.filter(project=project, retracted_revision__isnull=True)
     for chunk in _chunks(ends):
         for r in existing.filter(Q(later_id__in=chunk) | Q(earlier_id__in=chunk)).only(
                 "id", "type", "later_id", "earlier_id"):
-            for key in _keys(r.type, r.later_id, r.earlier_id):
-                if key in seen:
-                    raise RecordConflict(f"{_text(r.type, r.later_id, r.earlier_id, contexts)} is already recorded",
-                                         field="type", code="duplicate", index=seen[key], existing_id=r.id)
-            if r.type in ORDERED_TYPES and ("ordered", r.earlier_id, r.later_id) in seen:
+            key = _key(r.type, r.later_id, r.earlier_id)
+            if key in seen:
+                raise RecordConflict(f"{_text(r.type, r.later_id, r.earlier_id, contexts)} is already recorded",
+                                     field="type", code="duplicate", index=seen[key], existing_id=r.id)
+            if r.type in ORDERED_TYPES and (r.earlier_id, r.later_id) in ordered:
                 raise RecordConflict("the inverse is already recorded", field="type", code="inverse-recorded",
-                                     index=seen[("ordered", r.earlier_id, r.later_id)], existing_id=r.id)
+                                     index=ordered[(r.earlier_id, r.later_id)], existing_id=r.id)
 
 
-def _keys(type_: str, later: int, earlier: int) -> list[tuple]:
+def _key(type_: str, later: int, earlier: int) -> tuple:
     if type_ in EQUALITY_TYPES:
-        return [(type_, min(later, earlier), max(later, earlier))]
-    if type_ in ORDERED_TYPES:
-        return [(type_, later, earlier), ("ordered", later, earlier)]
-    return [(type_, later, earlier)]
+        return (type_, min(later, earlier), max(later, earlier))
+    return (type_, later, earlier)
 
 
 def _text(type_, later, earlier, contexts) -> str:

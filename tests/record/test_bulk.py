@@ -54,3 +54,15 @@ def test_a_label_already_in_the_record_is_a_conflict(project, actor):
         with record_change(project, actor) as changes:
             bulk.add_contexts(changes, [(fields, None) for fields in CONTEXTS])
     assert Context.objects.filter(project=project).count() == 1
+
+
+@pytest.mark.django_db
+def test_two_ordered_types_the_same_way_are_allowed_but_an_inverse_is_not(project, actor):
+    with record_change(project, actor) as changes:
+        bulk.add_contexts(changes, [(fields, None) for fields in CONTEXTS])
+        bulk.add_relationships(changes, [{"subject": "1002", "type": "cuts", "object": "1001"},
+                                         {"subject": "1002", "type": "above", "object": "1001"}])
+    with pytest.raises(RecordConflict) as refused:
+        with record_change(project, actor) as changes:
+            bulk.add_relationships(changes, [{"subject": "1001", "type": "above", "object": "1002"}])
+    assert refused.value.code == "inverse-recorded"
