@@ -33,7 +33,7 @@ from chronology.evidence import writes as evidence_writes
 from chronology.interpretations.models import Interpretation
 from chronology.runs.models import Run
 from projects.models import ChangeLogEntry
-from projects.record import writes
+from projects.record import bulk, writes
 from projects.record.changes import Actor, ImportedProvenance, record_change
 from projects.record.representation import CONTEXT_FIELDS
 
@@ -118,8 +118,13 @@ class Replay:
             raise refuse("revisions", number + 1, f"revision {number} changes nothing in the record", "empty-revision")
         if verbs == {"added"}:
             with record_change(project, actor, summary=revision["summary"] or "") as changes:
-                for entry in entries:
-                    self._add(changes, entry)
+                # Runs of contexts or of relationships go through the record's bulk functions, in log order.
+                for kind, run in itertools.groupby(entries, key=lambda e: e["object_kind"]):
+                    if kind in ("context", "relationship"):
+                        self._add_many(changes, kind, list(run))
+                    else:
+                        for entry in run:
+                            self._add(changes, entry)
         elif "record.context.retracted" in actions:
             entry = entries[actions.index("record.context.retracted")]
             writes.retract_context(project, actor, self._row("context", entry), reason=entry["message"])
@@ -169,6 +174,21 @@ class Replay:
         if not result.created:
             raise refuse("changes", entry["seq"] + 1, f"{kind} {uid} is recorded twice", "duplicate-key", "object_key")
         self.keys.add(kind, result.object.id, str(result.object.uid))
+
+    def _add_many(self, changes, kind: str, entries: list[dict]) -> None:
+        for entry in entries:
+            if (entry["after"] or {}).get("uid", entry["object_key"]) in self.keys.row[kind]:
+                raise refuse("changes", entry["seq"] + 1, f"{kind} {entry['object_key']} is recorded twice",
+                             "duplicate-key", "object_key")
+        if kind == "context":
+            made = bulk.add_contexts(changes, [({k: (e["after"] or {}).get(k) for k in CONTEXT_FIELDS},
+                                                (e["after"] or {}).get("uid") or e["object_key"]) for e in entries])
+        else:
+            made = bulk.add_relationships(changes, [
+                self._relationship_fields(e["after"] or {}, (e["after"] or {}).get("uid") or e["object_key"])
+                for e in entries])
+        for obj in made:
+            self.keys.add(kind, obj.id, str(obj.uid))
 
     def _relationship_fields(self, after: dict, uid: str) -> dict:
         later, earlier = self.keys.row["context"][after["later_id"]], self.keys.row["context"][after["earlier_id"]]

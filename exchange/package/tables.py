@@ -145,11 +145,15 @@ def revisions(project, keys: KeyMap) -> Iterator[list]:
 
 
 def changes(project, keys: KeyMap) -> Iterator[list]:
-    qs = ChangeLogEntry.objects.filter(project=project).order_by("revision", "id")
+    # Plain tuples, not model instances: the log is the largest table.
+    qs = ChangeLogEntry.objects.filter(project=project).order_by("revision", "id").values_list(
+        "revision", "created_at", "user_name", "device", "request_id", "action", "object_kind", "object_id",
+        "object_repr", "before", "after", "message")
     for seq, e in enumerate(qs.iterator(chunk_size=CHUNK), start=1):
-        yield [seq, e.revision, e.created_at, e.user_name, e.device, e.request_id, e.action, e.object_kind,
-               keys.object_key(e.object_kind, e.object_id), e.object_repr,
-               keys.log_value_out(e.object_kind, e.before), keys.log_value_out(e.object_kind, e.after), e.message]
+        revision, created_at, user_name, device, request_id, action, kind, object_id, repr_, before, after, msg = e
+        yield [seq, revision, created_at, user_name, device, request_id, action, kind,
+               keys.object_key(kind, object_id), repr_, keys.log_value_out(kind, before),
+               keys.log_value_out(kind, after), msg]
 
 
 def record_states(project, keys: KeyMap) -> Iterator[list]:

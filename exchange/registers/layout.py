@@ -105,7 +105,8 @@ def columns(sheet: Sheet, mapping: dict | None, fields=FIELDS) -> tuple[dict[str
 
 def plan(sheet: Sheet, mapping: dict | None = None) -> Planned:
     cols, problems = columns(sheet, mapping, RELATIONSHIP_FIELDS)
-    per_relationship = {"subject", "type", "object"} <= set(cols) and not (set(mapping or {}) - set(RELATIONSHIP_FIELDS))
+    foreign = set(mapping or {}) - set(RELATIONSHIP_FIELDS)
+    per_relationship = {"subject", "type", "object"} <= set(cols) and not foreign
     if not per_relationship:
         cols, problems = columns(sheet, mapping, CONTEXT_FIELDS + LIST_COLUMNS)
     if per_relationship:

@@ -11,8 +11,8 @@ unchanged — so importing the same file again changes nothing.
 
 The commit runs the dry run again inside the transaction and, if nothing
 was refused, writes every new context and relationship through the record's
-one write path (``projects.record.writes``) in ONE change set, so the whole
-register is one record revision or nothing.
+one write path (``projects.record.bulk``, the same rules as one at a time)
+in ONE change set, so the whole register is one record revision or nothing.
 """
 
 from __future__ import annotations
@@ -22,7 +22,7 @@ from django.db import transaction
 from chronology.engine.incremental import IncrementalOrder
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES, RelationshipData, canonical_relationship
 from projects.models import Context, Project, Relationship
-from projects.record import writes
+from projects.record import bulk, writes
 from projects.record.changes import record_change
 from projects.record.errors import RecordConflict, RecordError
 from projects.record.representation import relationship_text
@@ -107,7 +107,9 @@ def check(project: Project, planned: Planned) -> tuple[dict, list, list]:
         twin = (type_, earlier, later) if type_ in EQUALITY_TYPES else None
         if key in recorded or (twin and twin in recorded):
             if recorded.get(key, recorded.get(twin)) != data["certainty"]:
-                planned.problems.append(Problem(row, "certainty", "duplicate-differs", f"{relationship_text(type_, labels[later], labels[earlier])} is recorded with another certainty"))
+                text = relationship_text(type_, labels[later], labels[earlier])
+                planned.problems.append(Problem(row, "certainty", "duplicate-differs",
+                                                f"{text} is recorded with another certainty"))
             else:
                 unchanged_rels += 1
             continue
@@ -159,13 +161,14 @@ def commit(project: Project, actor, data: bytes, name: str, mapping: dict | None
         if not contexts and not rels:
             return {**report, "revision": None}
         with record_change(project, actor, summary=f"register {name[:200]} imported") as changes:
-            for _row, fields in contexts:
-                writes._add_context(changes, fields, None)
-            for row, rel in rels:
-                try:
-                    writes._add_relationship(changes, rel)
-                except RecordError as exc:  # the write path's own check; name the row too
-                    exc.details.setdefault("row", row)
-                    raise
+            if contexts:
+                bulk.add_contexts(changes, [(fields, None) for _row, fields in contexts])
+            try:
+                if rels:
+                    bulk.add_relationships(changes, [rel for _row, rel in rels])
+            except RecordError as exc:  # the write path's own check; name the register row too
+                if "index" in exc.details:
+                    exc.details["row"] = rels[exc.details["index"]][0]
+                raise
     project.refresh_from_db()
     return {**report, "revision": project.revision}
