@@ -24,7 +24,7 @@ from __future__ import annotations
 import csv
 import re
 
-__all__ = ["TRIGGERS", "neutralise", "neutralise_row", "neutralise_fragments", "SafeWriter"]
+__all__ = ["TRIGGERS", "neutralise", "neutralise_row", "neutralise_fragments", "neutralise_reversibly", "restore", "SafeWriter"]
 
 #: The characters a cell may not start with (OWASP, "CSV Injection").
 TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
@@ -83,3 +83,22 @@ class SafeWriter:
     def writerows(self, rows):
         for row in rows:
             self.writerow(row)
+
+
+def neutralise_reversibly(value):
+    """Like :func:`neutralise`, for files that are also read back (archive packages).
+
+    A cell that :func:`restore` would strip a quote from (one beginning with a
+    quote followed by a trigger character or another quote) gets one more
+    quote, so ``restore(neutralise_reversibly(v)) == v`` for every text ``v``.
+    """
+    if isinstance(value, str) and value.startswith("'") and value[1:].startswith((*TRIGGERS, "'")):
+        return "'" + value
+    return neutralise(value)
+
+
+def restore(value):
+    """The text a cell written by :func:`neutralise_reversibly` held."""
+    if isinstance(value, str) and value.startswith("'") and value[1:].startswith((*TRIGGERS, "'")):
+        return value[1:]
+    return value

@@ -20,6 +20,7 @@ import zipfile
 from datetime import datetime, timezone
 from typing import Iterator
 
+from chronology.engine.csv_cells import restore
 from projects.record.errors import RecordInvalid
 
 from . import schemas
@@ -191,7 +192,7 @@ def _typed_rows(zf, table: schemas.Table, problems: _Problems | None, on_refused
             typed, ok = {}, True
             for f, value in zip(table.fields, cells):
                 try:
-                    typed[f.name] = parse_cell(f, value)
+                    typed[f.name] = parse_cell(f, restore(value))
                 except ValueError as exc:
                     ok = False
                     if problems is not None:

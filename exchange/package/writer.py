@@ -19,6 +19,8 @@ from pathlib import Path
 
 from django.utils import timezone
 
+from chronology.engine.csv_cells import neutralise_reversibly
+
 from ..portable import KeyMap
 from . import readme, schemas, tables
 
@@ -64,7 +66,8 @@ def _write_table(zf: zipfile.ZipFile, table: schemas.Table, rows) -> dict:
         writer.writerow(table.names)
         count = 0
         for row in rows:
-            writer.writerow([cell(v) for v in row])
+            # Spreadsheet-safe and still lossless: the reader restores each cell (OWASP, "CSV Injection").
+            writer.writerow([neutralise_reversibly(cell(v)) for v in row])
             count += 1
         text.flush()
         text.detach().detach()
