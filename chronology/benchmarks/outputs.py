@@ -42,9 +42,12 @@ def _ranges(years, density):
 
 def _event(key, label, kind, phase, draws, years, likelihood=None) -> dict:
     from chronology.engine.calendar_scales import format_year
+    from chronology.engine.posterior import _smooth
 
     edges = np.append(years - 0.5, years[-1] + 0.5)
     density = np.histogram(draws, bins=edges)[0].astype(float)
+    # Smoothed as the service's own summaries are, so the ranges split as a real run's do.
+    density = _smooth(density / density.sum(), draws, 1.0)
     density /= density.sum()
     median = float(np.median(draws))
     return {"key": key, "label": label, "kind": kind, "phase": phase, "estimated_from_order_only": False,
