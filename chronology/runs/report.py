@@ -29,6 +29,7 @@ from django.template.loader import render_to_string
 from chronology.engine.csv_cells import neutralise
 from chronology.engine.plots.figure_parts import SYNTHETIC_WARNING, render
 
+from .report_weighing import weighing_for_report
 from .figures import density_grid_of, heading_for, interval_page_figures
 from .report_tables import (
     MODELLED_RESOLUTION,
@@ -132,7 +133,8 @@ def report_facts(run, results: dict, *, version=None) -> dict:
     revision = Revision.objects.filter(project=run.project, number=run.record_revision).first()
     svg, error = _structure_svg(version)
     return {"digest": getattr(revision, "digest", ""), "determinations": _determination_facts(run, results),
-            "structure_svg": svg, "structure_error": error, "reasons": _version_reasons(version)}
+            "structure_svg": svg, "structure_error": error, "reasons": _version_reasons(version),
+            "weighing": weighing_for_report(run)}
 
 
 def _software(results: dict) -> str:
@@ -174,7 +176,7 @@ def _content(results: dict, facts: dict) -> dict:
         "outlier_priors": outlier_prior_lines(facts.get("determinations", [])),
         "events": event_rows(results), "modelled_resolution": MODELLED_RESOLUTION,
         "questions": question_rows(results), "outliers": outlier_rows(results),
-        "diagnostics": diagnostic_summary(results),
+        "diagnostics": diagnostic_summary(results), "weighing": facts.get("weighing"),
     }
 
 

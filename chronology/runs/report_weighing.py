@@ -1,0 +1,41 @@
+"""The latest weighing by the evidence that included a run's version, as the run report shows it.
+
+Marginal likelihoods by stepping-stone sampling (Xie, Lewis, Fan, Kuo & Chen
+2011) are computed by ``chronology.weighing``; the report only reads the
+finished result, with its method and the caution that Bayes factors depend
+on the priors.
+"""
+
+from __future__ import annotations
+
+__all__ = ["weighing_for_report"]
+
+
+def weighing_for_report(run) -> dict | None:
+    """The newest finished weighing of ``run``'s project with ``run``'s version among its candidates."""
+    from chronology.models import Job, JobState
+    from chronology.weighing.evidence_work import WEIGHING_KIND
+
+    finished = Job.objects.filter(project=run.project, kind=WEIGHING_KIND, state=JobState.DONE)
+    for job in finished.order_by("-finished_at", "-created_at"):
+        names = {c.get("name") for c in job.params.get("candidates") or [] if c.get("version") == run.version_id}
+        if not names:
+            continue
+        result = job.result or {}
+        rows = [_row(c, c.get("name") in names) for c in sorted(result.get("candidates") or [],
+                                                                   key=lambda c: -c["posterior_probability"])]
+        return {"rows": rows, "method": result.get("method", ""), "caution": result.get("caution", ""),
+                "finished_at": job.finished_at, "failed": [f["name"] for f in result.get("failed") or []]}
+    return None
+
+
+def _row(c: dict, this_run: bool) -> dict:
+    bf = c.get("bayes_factor_of_best")
+    return {
+        "name": c["name"], "this_run": this_run,
+        "log_ml": f"{c['log_marginal_likelihood']:.2f} ± {c['mcse']:.2f}",
+        "probability": f"{c['posterior_probability']:.3f} ± {c['posterior_probability_mcse']:.3f}",
+        "bayes_factor": "best supported" if c.get("log_bayes_factor_of_best", 0.0) == 0.0 else (
+            f"{bf:.3g} ± {c['log_bayes_factor_of_best_mcse']:.2f} (log scale)" if bf is not None else "over e^700"),
+        "strength": c.get("strength") or "",
+    }
