@@ -147,7 +147,8 @@ def _build(n_contexts: int, n_relationships: int, n_dets: int, n_versions: int, 
     for i in range(0, len(site_rels), CHUNK):
         with record_change(source, recorder, summary="relationships") as changes:
             bulk.add_relationships(changes, site_rels[i:i + CHUNK])
-    curve, _ = import_curve(curve_to_csv(synthetic_curve(0, 6000)))
+    # The full synthetic table, as the demo imports it: curves are shared, and one name holds one table.
+    curve, _ = import_curve(curve_to_csv(synthetic_curve()))
 
     # Four dated layers up one area's sequence, for the model runs; the rest of the evidence later.
     area = per_area[0]
