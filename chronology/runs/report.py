@@ -127,14 +127,16 @@ def _structure_svg(version) -> tuple[str | None, str]:
 def report_facts(run, results: dict, *, version=None) -> dict:
     """What the report takes from the record and the version (not in ``results.json``)."""
     from chronology.runs.sources import find_version
-    from projects.models import Revision
+    from projects.models import Project, Revision
 
     version = version or find_version(run.project, run.version_id)
     revision = Revision.objects.filter(project=run.project, number=run.record_revision).first()
     svg, error = _structure_svg(version)
     return {"digest": getattr(revision, "digest", ""), "determinations": _determination_facts(run, results),
             "structure_svg": svg, "structure_error": error, "reasons": _version_reasons(version),
-            "weighing": weighing_for_report(run)}
+            "weighing": weighing_for_report(run),
+            # Anyone holding this report can tell a later rewrite of the history (``verify_record``).
+            "head_digest": Project.objects.filter(pk=run.project_id).values_list("head_digest", flat=True).first() or ""}
 
 
 def _software(results: dict) -> str:
@@ -171,7 +173,7 @@ def _content(results: dict, facts: dict) -> dict:
         "curves": results.get("curves", []), "curve_names": ", ".join(results.get("curve_names") or []),
         "structure": structure_lines(results), "reasons": facts.get("reasons") or {},
         "structure_svg": facts.get("structure_svg"), "structure_error": facts.get("structure_error", ""),
-        "digest": facts.get("digest", ""),
+        "digest": facts.get("digest", ""), "head_digest": facts.get("head_digest", ""),
         "determinations": facts.get("determinations", []), "combinations": combination_notes(results),
         "outlier_priors": outlier_prior_lines(facts.get("determinations", [])),
         "events": event_rows(results), "modelled_resolution": MODELLED_RESOLUTION,

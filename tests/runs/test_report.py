@@ -135,3 +135,10 @@ def test_outliers_and_failing_quantities_are_named_by_lab_code_and_label_not_int
     assert not re.search(r"\b(?:determination|sample|terminus|ctx|phase):\d", text)
     assert not re.search(r"\b(?:beginning|close|changeover|duration|gap|precedence):[a-z]", text)
     assert "VXL-0901 and VXL-0902" in text  # the two determinations on one sample, combined
+
+
+def test_the_report_prints_the_history_head_it_was_made_at(outputs):
+    # Whoever keeps the report can later tell a rewrite of the history (verify_record).
+    head = outputs["facts"]["head_digest"]
+    assert len(head) == 64
+    assert head in _text(outputs["html"])
