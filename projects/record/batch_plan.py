@@ -25,11 +25,10 @@ from django.db.models import Q
 
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES, RelationshipData, canonical_relationship
 from projects.models import Context, Project, Relationship
-from projects.models.record import Certainty
 
 from .errors import RecordConflict, RecordError, RecordInvalid
 from .representation import relationship_text
-from .writes import CERTAINTIES, WORDINGS, _WORDING_SET, _clean_context_fields, _cycle_body, normalise_label, parse_uid
+from .writes import _clean_context_fields, _cycle_body, normalise_label, parse_uid, relationship_fields
 
 
 @dataclass
@@ -234,16 +233,7 @@ class _Planner:
     def _relationship(self, index: int, data) -> object:
         if not isinstance(data, dict):
             raise RecordInvalid("each relationship must be an object", code="invalid")
-        wording = data.get("type")
-        if wording not in _WORDING_SET:
-            raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice")
-        certainty = data.get("certainty") or Certainty.CERTAIN
-        if certainty not in CERTAINTIES:
-            raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
-        note = data.get("note") or ""
-        if not isinstance(note, str):
-            raise RecordInvalid("note must be text", field="note", code="invalid-type")
-        uid = parse_uid(data.get("uid"))
+        wording, certainty, note, uid = relationship_fields(data)
         (subject, subject_label), (obj, object_label) = self._end(data.get("subject"), "subject"), self._end(
             data.get("object"), "object"
         )

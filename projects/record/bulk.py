@@ -20,12 +20,11 @@ from django.db.models import Q
 
 from chronology.engine.record_data import EQUALITY_TYPES, ORDERED_TYPES, RelationshipData, canonical_relationship
 from projects.models import Context, Relationship
-from projects.models.record import Certainty
 
 from .changes import ChangeSet
 from .errors import RecordConflict, RecordInvalid
 from .representation import context_data, relationship_data, relationship_text
-from .writes import WORDINGS, _clean_context_fields, _cycle_body, _order, normalise_label, parse_uid
+from .writes import _clean_context_fields, _cycle_body, _order, normalise_label, parse_uid, relationship_fields
 
 __all__ = ["add_contexts", "add_relationships"]
 
@@ -83,17 +82,7 @@ def add_relationships(changes: ChangeSet, items) -> list[Relationship]:
     contexts = {**by_id, **{c.id: c for c in by_label.values()}}
     rows, uids = [], []
     for n, data in enumerate(items):
-        wording = data.get("type")
-        if wording not in WORDINGS:
-            raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice",
-                                index=n)
-        certainty = data.get("certainty") or Certainty.CERTAIN
-        if certainty not in Certainty.values:
-            raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty",
-                                code="invalid-choice", index=n)
-        note = data.get("note") or ""
-        if not isinstance(note, str):
-            raise RecordInvalid("note must be text", field="note", code="invalid-type", index=n)
+        wording, certainty, note, uid = relationship_fields(data, index=n)
         ends = []
         for field in ("subject", "object"):
             ref = data.get(field)
@@ -107,7 +96,6 @@ def add_relationships(changes: ChangeSet, items) -> list[Relationship]:
             raise RecordInvalid(f"context {subject.label} cannot be related to itself", field="object",
                                 code="self-relationship", index=n)
         type_, later, earlier = canonical_relationship(subject.pk, wording, obj.pk)
-        uid = parse_uid(data.get("uid"))
         if uid is not None:
             uids.append(uid)
         rows.append((n, type_, later, earlier, wording, certainty, note, uid))

@@ -309,18 +309,25 @@ def _cycle_body(steps, labels: dict[int, str]) -> list[dict]:
     ]
 
 
-def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
-    project = changes.project
+def relationship_fields(data: dict, **details) -> tuple[str, str, str, uuid_module.UUID | None]:
+    """(wording, certainty, note, uid) of a relationship as posted, checked; ``details`` go into a refusal."""
     wording = data.get("type")
     if wording not in _WORDING_SET:
-        raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice")
+        raise RecordInvalid(f"type must be one of {', '.join(WORDINGS)}", field="type", code="invalid-choice",
+                            **details)
     certainty = data.get("certainty") or Certainty.CERTAIN
     if certainty not in CERTAINTIES:
-        raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice")
+        raise RecordInvalid("certainty must be 'certain' or 'uncertain'", field="certainty", code="invalid-choice",
+                            **details)
     note = data.get("note") or ""
     if not isinstance(note, str):
-        raise RecordInvalid("note must be text", field="note", code="invalid-type")
-    uid = parse_uid(data.get("uid"))
+        raise RecordInvalid("note must be text", field="note", code="invalid-type", **details)
+    return wording, certainty, note, parse_uid(data.get("uid"))
+
+
+def _add_relationship(changes: ChangeSet, data: dict) -> WriteResult:
+    project = changes.project
+    wording, certainty, note, uid = relationship_fields(data)
     subject, obj = _two_contexts(project, data.get("subject"), data.get("object"))
     if subject.pk == obj.pk:
         raise RecordInvalid(f"context {subject.label} cannot be related to itself", field="object", code="self-relationship")
