@@ -55,6 +55,22 @@ class _Jobs(ProjectScopedViewSet):
     def _url(self, job: Job) -> str:
         return self.request.build_absolute_uri(f"/api/v1/projects/{self.kwargs['project']}/{self.prefix}/{job.pk}/")
 
+    def _body(self, job: Job) -> dict:
+        raise NotImplementedError
+
+    def _accepted(self, job: Job) -> Response:
+        data = self._body(job)
+        return Response(data, status=status.HTTP_202_ACCEPTED, headers={"Location": data["url"]})
+
+    @extend_schema(responses={200: OpenApiTypes.OBJECT})
+    def list(self, request, project=None):
+        page = self.paginate_queryset(self.get_queryset())
+        return self.get_paginated_response([self._body(j) for j in page])
+
+    @extend_schema(responses={200: OpenApiTypes.OBJECT})
+    def retrieve(self, request, project=None, pk=None):
+        return Response(self._body(self._job(pk)))
+
 
 class WeighingViewSet(_Jobs):
     """Candidate readings weighed by their marginal likelihoods (stepping-stone sampling)."""
@@ -65,15 +81,6 @@ class WeighingViewSet(_Jobs):
 
     def _body(self, job: Job) -> dict:
         return {**evidence_jobs.weighing_view(job), "url": self._url(job)}
-
-    @extend_schema(responses={200: OpenApiTypes.OBJECT})
-    def list(self, request, project=None):
-        page = self.paginate_queryset(self.get_queryset())
-        return self.get_paginated_response([self._body(j) for j in page])
-
-    @extend_schema(responses={200: OpenApiTypes.OBJECT})
-    def retrieve(self, request, project=None, pk=None):
-        return Response(self._body(self._job(pk)))
 
     @extend_schema(request=WeighingInput, responses={202: OpenApiTypes.OBJECT})
     @idempotent
@@ -88,8 +95,7 @@ class WeighingViewSet(_Jobs):
                 seed=v["seed"])
         except ModelRefused as exc:
             raise _refused(exc) from None
-        data = self._body(job)
-        return Response(data, status=status.HTTP_202_ACCEPTED, headers={"Location": data["url"]})
+        return self._accepted(job)
 
     @extend_schema(request=None, responses={202: OpenApiTypes.OBJECT})
     @action(detail=True, methods=["post"])
@@ -110,15 +116,6 @@ class SensitivityViewSet(_Jobs):
                 "created_at": job.created_at, "finished_at": job.finished_at, "result": job.result,
                 "error": job.error, "url": self._url(job)}
 
-    @extend_schema(responses={200: OpenApiTypes.OBJECT})
-    def list(self, request, project=None):
-        page = self.paginate_queryset(self.get_queryset())
-        return self.get_paginated_response([self._body(j) for j in page])
-
-    @extend_schema(responses={200: OpenApiTypes.OBJECT})
-    def retrieve(self, request, project=None, pk=None):
-        return Response(self._body(self._job(pk)))
-
     @extend_schema(request=SensitivityInput, responses={202: OpenApiTypes.OBJECT})
     @idempotent
     def create(self, request, project=None):
@@ -130,5 +127,4 @@ class SensitivityViewSet(_Jobs):
                                                 variations=v["variations"], settings=v["settings"], seed=v["seed"])
         except ModelRefused as exc:
             raise _refused(exc) from None
-        data = self._body(job)
-        return Response(data, status=status.HTTP_202_ACCEPTED, headers={"Location": data["url"]})
+        return self._accepted(job)

@@ -30,12 +30,13 @@ def weighing_for_report(run) -> dict | None:
 
 
 def _row(c: dict, this_run: bool) -> dict:
-    bf = c.get("bayes_factor_of_best")
+    bf, log_bf = c.get("bayes_factor_of_best"), c.get("log_bayes_factor_of_best", 0.0)
+    shown = f"{bf:.3g}" if bf is not None else "over e^700"
     return {
         "name": c["name"], "this_run": this_run,
         "log_ml": f"{c['log_marginal_likelihood']:.2f} ± {c['mcse']:.2f}",
         "probability": f"{c['posterior_probability']:.3f} ± {c['posterior_probability_mcse']:.3f}",
-        "bayes_factor": "best supported" if c.get("log_bayes_factor_of_best", 0.0) == 0.0 else (
-            f"{bf:.3g} ± {c['log_bayes_factor_of_best_mcse']:.2f} (log scale)" if bf is not None else "over e^700"),
+        "bayes_factor": "best supported" if log_bf == 0.0 else
+        f"{shown} (log {log_bf:.2f} ± {c['log_bayes_factor_of_best_mcse']:.2f})",
         "strength": c.get("strength") or "",
     }

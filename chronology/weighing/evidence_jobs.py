@@ -29,6 +29,7 @@ from projects.models import Role
 
 from .candidates import prepare
 from .evidence_work import ESTIMATE_KIND, WEIGHING_KIND, children_of, finish_if_complete
+from .settings_input import whole_number_settings
 
 __all__ = ["WEIGHING_KIND", "ESTIMATE_KIND", "SETTING_LIMITS", "settings_from", "start_weighing", "weighing_view",
            "cancel_weighing", "recent_weighings"]
@@ -39,23 +40,7 @@ SETTING_LIMITS = {"stones": (8, 64), "draws": (50, 5000), "thin": (1, 20), "warm
 
 def settings_from(data) -> SteppingStoneSettings:
     """Stepping-stone settings from a request's ``settings`` object; ``ModelRefused`` (400) naming the field."""
-    data = data or {}
-    if not isinstance(data, dict):
-        raise ModelRefused("invalid-input", "settings is a JSON object", status=400, field="settings")
-    unknown = sorted(set(data) - set(SETTING_LIMITS))
-    if unknown:
-        raise ModelRefused("invalid-input", f"unknown setting {unknown[0]!r}; allowed: {', '.join(SETTING_LIMITS)}",
-                           status=400, field=f"settings.{unknown[0]}")
-    values = {}
-    for name, (lo, hi) in SETTING_LIMITS.items():
-        if name not in data:
-            continue
-        v = data[name]
-        if not isinstance(v, int) or isinstance(v, bool) or not lo <= v <= hi:
-            raise ModelRefused("out-of-range", f"{name} is a whole number from {lo} to {hi}", status=400,
-                               field=f"settings.{name}")
-        values[name] = v
-    return SteppingStoneSettings(**values)
+    return SteppingStoneSettings(**whole_number_settings(data, SETTING_LIMITS))
 
 
 def _seed(value) -> int:

@@ -18,6 +18,7 @@ from chronology.runs.compile import ModelRefused
 from chronology.runs.sources import find_version, version_label
 from projects.models import Role
 
+from .settings_input import whole_number_settings
 from .variants import check_variation, compile_variant
 
 __all__ = ["JOB_KIND", "MAX_VARIATIONS", "SAMPLING_LIMITS", "start_sensitivity"]
@@ -29,21 +30,9 @@ SAMPLING_LIMITS = {"chains": (1, 8, 2), "iterations": (200, 50000, 3000), "warmu
 
 
 def _sampling(data) -> dict:
-    data = data or {}
-    if not isinstance(data, dict):
-        raise ModelRefused("invalid-input", "settings is a JSON object", status=400, field="settings")
-    unknown = sorted(set(data) - set(SAMPLING_LIMITS))
-    if unknown:
-        raise ModelRefused("invalid-input", f"unknown setting {unknown[0]!r}; allowed: {', '.join(SAMPLING_LIMITS)}",
-                           status=400, field=f"settings.{unknown[0]}")
-    out = {}
-    for name, (lo, hi, default) in SAMPLING_LIMITS.items():
-        v = data.get(name, default)
-        if not isinstance(v, int) or isinstance(v, bool) or not lo <= v <= hi:
-            raise ModelRefused("out-of-range", f"{name} is a whole number from {lo} to {hi}", status=400,
-                               field=f"settings.{name}")
-        out[name] = v
-    return out
+    limits = {name: (lo, hi) for name, (lo, hi, _default) in SAMPLING_LIMITS.items()}
+    defaults = {name: default for name, (_lo, _hi, default) in SAMPLING_LIMITS.items()}
+    return whole_number_settings(data, limits, defaults)
 
 
 def start_sensitivity(project, actor, *, version_id, variations, settings=None, seed=None) -> Job:

@@ -86,26 +86,31 @@ def _catch_up(project: Project, cached: _Cached) -> IncrementalOrder | None:
     return order
 
 
+def _take(project: Project) -> IncrementalOrder:
+    """The cached order out of the registry, brought up to ``project``'s revision (or built afresh)."""
+    with _lock:
+        cached = _registry.pop(project.pk, None)
+    order = _catch_up(project, cached) if cached is not None else None
+    return order if order is not None else build_order(project)
+
+
+def _put_back(project: Project, order: IncrementalOrder) -> None:
+    """Cache ``order`` as the one at ``project``'s revision, unless a newer one is cached already."""
+    with _lock:
+        current = _registry.get(project.pk)
+        if current is None or current.revision < project.revision:
+            _registry[project.pk] = _Cached(project.revision, project.record_digest, order)
+
+
 def checkout(project: Project) -> IncrementalOrder:
     """The order for ``project`` as of its (locked) current revision, owned by the caller.
 
     Call inside the write transaction, after locking the project row.  The
     order is returned to the registry when the transaction commits.
     """
-    with _lock:
-        cached = _registry.pop(project.pk, None)
-    order = _catch_up(project, cached) if cached is not None else None
-    if order is None:
-        order = build_order(project)
+    order = _take(project)
 
-    def _return():
-        digest = project.record_digest
-        with _lock:
-            current = _registry.get(project.pk)
-            if current is None or current.revision < project.revision:
-                _registry[project.pk] = _Cached(project.revision, digest, order)
-
-    transaction.on_commit(_return)
+    transaction.on_commit(lambda: _put_back(project, order))
     return order
 
 
@@ -120,16 +125,9 @@ def snapshot(project: Project) -> IncrementalOrder:
     The cached order is brought up to date and put back for the next write;
     the caller owns the copy and may add to it freely.
     """
-    with _lock:
-        cached = _registry.pop(project.pk, None)
-    order = _catch_up(project, cached) if cached is not None else None
-    if order is None:
-        order = build_order(project)
+    order = _take(project)
     private = private_copy(order)
-    with _lock:
-        current = _registry.get(project.pk)
-        if current is None or current.revision < project.revision:
-            _registry[project.pk] = _Cached(project.revision, project.record_digest, order)
+    _put_back(project, order)
     return private
 
 

@@ -31,7 +31,7 @@ def test_restoring_a_reversibly_neutralised_cell_gives_the_text_back(text):
 @given(st.text(max_size=8))
 def test_no_reversibly_neutralised_cell_starts_a_formula(text):
     cell = neutralise_reversibly(text)
-    assert not cell.startswith(("=", "@", "\t", "\r")) or cell == text == ""
+    assert not cell.startswith(("=", "@", "\t", "\r"))
 
 
 @pytest.mark.django_db
