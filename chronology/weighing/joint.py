@@ -1,0 +1,196 @@
+"""A version's alternatives weighed jointly: many uncertain relationships at once.
+
+With more undecided items than can be weighed one by one
+(:data:`chronology.weighing.candidates.MAX_ALTERNATIVE_ITEMS`), or when
+asked, the uncertain relationships are weighed together from one
+encompassing model (Klugkist, Kato & Hoijtink 2005;
+:mod:`chronology.engine.encompassing`): the version with every undecided
+relationship left out, whose posterior and prior draws each carry one
+indicator per relationship.  Undecided *equalities* merge two contexts into
+one event, which is not a restriction of the encompassing model, so they
+are still enumerated: each of their ``2^e`` decisions is a *family*, one
+background job whose marginal likelihood (stepping-stone sampling) anchors
+the Bayes factors of its ``2^u`` readings of the uncertain relationships.
+
+Each relationship's constraints are found by compiling the family's model
+with only that relationship accepted and taking the order constraints it
+adds; the two compiles must agree on everything else (events, evidence,
+phases, range), since otherwise the reading is not a restriction and the
+method does not apply.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import networkx as nx
+
+from chronology.engine.encompassing import MAX_RESTRICTIONS, Restriction
+from chronology.runs.compile import CompiledModel, ModelRefused
+from chronology.runs.sources import version_label
+
+from .variants import Decisions, compile_variant
+
+__all__ = ["MAX_JOINT_ITEMS", "MAX_JOINT_EQUALITIES", "JOINT_LIMITS", "JOINT_DEFAULTS", "families",
+           "edges_of", "check_family", "restrictions_of", "reading_name"]
+
+#: Most uncertain relationships weighed jointly in one family (2^10 readings).
+MAX_JOINT_ITEMS = MAX_RESTRICTIONS
+#: Most undecided equalities enumerated beside them (2^4 families).
+MAX_JOINT_EQUALITIES = 4
+#: Settings of the joint runs: name -> (least, greatest), and their defaults.
+JOINT_LIMITS = {"joint_chains": (2, 16), "joint_iterations": (1000, 200000), "joint_warmup": (0, 20000)}
+JOINT_DEFAULTS = {"joint_chains": 4, "joint_iterations": 20000, "joint_warmup": 2000}
+
+
+def _words(items, accepted) -> str:
+    return ", ".join(f"#{rid} {'accepted' if rid in accepted else 'not accepted'}" for rid, _k in items)
+
+
+def reading_name(label: str, items, accepted) -> str:
+    """The name of one reading, in the words the one-by-one weighing uses."""
+    return f"{label}: {_words(items, set(accepted))}"
+
+
+def families(version, items) -> list[dict]:
+    """One candidate per decision of the undecided equalities, each weighing the uncertain relationships jointly.
+
+    Raises
+    ------
+    ModelRefused
+        ``too-many-alternatives`` (422) beyond the joint limits.
+    """
+    equalities = [(rid, k) for rid, k in items if k == "equality"]
+    uncertain = [rid for rid, k in items if k == "uncertain"]
+    if not uncertain:
+        raise ModelRefused("no-joint-alternatives", "the version leaves no uncertain relationship undecided: only "
+                           "its equalities, which are weighed one by one", status=422, field="method")
+    if len(uncertain) > MAX_JOINT_ITEMS or len(equalities) > MAX_JOINT_EQUALITIES:
+        raise ModelRefused(
+            "too-many-alternatives",
+            f"the version leaves {len(uncertain)} uncertain relationships and {len(equalities)} equalities "
+            f"undecided: at most {MAX_JOINT_ITEMS} relationships are weighed jointly and at most "
+            f"{MAX_JOINT_EQUALITIES} equalities beside them; decide some first",
+            status=422, field="version", undecided=[rid for rid, _k in items])
+    label = version_label(version)
+    out = []
+    for bits in itertools.product((True, False), repeat=len(equalities)):
+        accepted = sorted(rid for (rid, _k), yes in zip(equalities, bits) if yes)
+        rejected = sorted(rid for (rid, _k), yes in zip(equalities, bits) if not yes)
+        words = _words(equalities, set(accepted))
+        name = f"{label}: {words}; " if words else f"{label}: "
+        out.append({"name": name + f"{len(uncertain)} uncertain relationships weighed jointly",
+                    "version": version.pk, "label": label, "accepted": accepted, "rejected": rejected + uncertain,
+                    "joint": uncertain, "items": [list(i) for i in items]})
+    return out
+
+
+def _same_but_order(a: CompiledModel, b: CompiledModel) -> bool:
+    ma, mb = a.model, b.model
+
+    def events(m):  # the compiler lists events along the order, which the accepted edge may change
+        return sorted((e.key, e.kind, e.phase or "", tuple(ev.key for ev in e.evidence)) for e in m.events)
+
+    def phases(m):
+        return [(p.key, p.start, p.end, p.members, p.arrangement_next) for p in m.phases]
+
+    return (events(ma) == events(mb) and phases(ma) == phases(mb) and ma.prior == mb.prior
+            and (ma.range_lo, ma.range_hi) == (mb.range_lo, mb.range_hi))
+
+
+def _not_a_restriction(rid: int, why: str) -> ModelRefused:
+    return ModelRefused("not-a-restriction", f"relationship #{rid} cannot be weighed jointly: {why}; decide it "
+                        "or weigh the alternatives one by one", status=422, field="version", relationship=rid)
+
+
+def edges_of(family: dict, encompassing: CompiledModel, relationships, labels) -> dict[int, tuple[str, str]]:
+    """Each jointly weighed relationship as one order constraint (earlier event, later event).
+
+    Both contexts must be events of the model: then the order a set of
+    accepted relationships induces among the events is the closure of the
+    encompassing order and their edges.  Through a context that is not an
+    event two relationships can order events that neither orders alone, and
+    the readings are not the intersections the method needs.
+
+    Raises
+    ------
+    ModelRefused
+        ``not-a-restriction`` (422) naming the relationship.
+    """
+    by_id = {r.id: r for r in relationships}
+    events = encompassing.context_events
+    out = {}
+    for rid in family["joint"]:
+        rel = by_id[rid]
+        for end in (rel.earlier, rel.later):
+            if end not in events:
+                raise _not_a_restriction(rid, f"context {labels.get(end, end)} is not an event of the model (neither dated, nor in a "
+                                         "phase, nor estimated), so its effect depends on the other relationships")
+        if events[rel.earlier] == events[rel.later]:
+            raise _not_a_restriction(rid, "its two contexts are one event under this reading")
+        out[rid] = (events[rel.earlier], events[rel.later])
+    return out
+
+
+def check_family(project, family: dict, encompassing: CompiledModel) -> None:
+    """Refuse now (422) a family whose relationships cannot be weighed jointly (see :func:`edges_of`)."""
+    from chronology.runs.sources import find_version
+
+    from .variants import record_of
+
+    _p, _r, _c, contexts, relationships = record_of(find_version(project, family["version"]))
+    edges_of(family, encompassing, relationships, {c.id: c.label for c in contexts})
+
+
+def _implied(graph: nx.DiGraph, extra, pairs) -> bool:
+    g = graph.copy()
+    g.add_edges_from(extra)
+    return all(nx.has_path(g, a, b) for a, b in pairs)
+
+
+def restrictions_of(version, family: dict, encompassing: CompiledModel, range_=None):
+    """Each jointly weighed relationship as the constraint it adds to ``encompassing``.
+
+    Each is compiled alone as well: a relationship whose acceptance alone is
+    refused (a cycle with the phases' order, say) is set apart with the
+    reason, and for the others the compiled model must differ from the
+    encompassing one by exactly the relationship's edge (same events,
+    evidence, phases and range; the same order once the edge is added).
+
+    Returns
+    -------
+    (list of Restriction, dict)
+        The restrictions (named by relationship id) and the relationships
+        whose acceptance alone is refused, id -> ``{"code", "reason"}``.
+
+    Raises
+    ------
+    ModelRefused
+        ``not-a-restriction`` (422) naming the relationship.
+    """
+    from .variants import record_of
+
+    _p, _r, _c, contexts, relationships = record_of(version)
+    edges = edges_of(family, encompassing, relationships, {c.id: c.label for c in contexts})
+    graph = nx.DiGraph([(c.earlier, c.later) for c in encompassing.model.constraints])
+    graph.add_nodes_from(encompassing.model.event_keys)
+    equal_yes, equal_no = set(family["accepted"]), set(family["rejected"]) - set(family["joint"])
+    out, refused = [], {}
+    for rid in family["joint"]:
+        decisions = Decisions(frozenset(equal_yes | {rid}), frozenset(equal_no | set(family["joint"]) - {rid}))
+        try:
+            one = compile_variant(version, decisions=decisions, range_=range_)
+        except ModelRefused as exc:
+            refused[rid] = {"code": exc.code, "reason": exc.message}
+            continue
+        added = [(c.earlier, c.later) for c in one.model.constraints]
+        one_graph = nx.DiGraph(added)
+        one_graph.add_nodes_from(one.model.event_keys)
+        if not _same_but_order(encompassing, one):
+            raise _not_a_restriction(rid, "accepting it changes the model's events, phases or range, not only its "
+                                     "order")
+        if not (_implied(graph, [edges[rid]], added) and _implied(one_graph, [], list(graph.edges))
+                and _implied(one_graph, [], [edges[rid]])):
+            raise _not_a_restriction(rid, "accepting it orders events other than its own two")
+        out.append(Restriction(str(rid), (edges[rid],)))
+    return out, refused
