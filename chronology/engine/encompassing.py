@@ -17,9 +17,20 @@ fraction of the encompassing prior that does (Klugkist, Kato & Hoijtink
 prior-only run (the power posterior at ``beta = 0``,
 :mod:`chronology.engine.power_posterior`) of the encompassing model give
 every reading's Bayes factor against it: each draw carries one indicator
-per relationship, 1 where all of its constraints hold, and the fraction of
-draws whose indicators include ``S`` is summed over the indicator patterns
-(a superset sum, ``O(k 2^k)``).
+per order pair the readings need, 1 where it holds, and the fraction of
+draws that satisfy ``S`` is counted over the distinct patterns of the
+draws' indicators.
+
+A relationship may join a context that is not an event of the model (an
+undated deposit, say).  The encompassing order then also holds a
+*skeleton*: the record's order between such contexts and the events.  The
+constraints of ``S`` are the order among the events that the encompassing
+order, the skeleton and the edges of ``S`` imply together
+(:func:`induced_pairs`); through a context that is no event, two
+relationships can order events that neither orders alone, so each subset's
+pairs are found from its own closure, keeping only the latest events before
+and the earliest after each edge (the others follow from the model's own
+order, which every draw satisfies).
 
 Monte Carlo errors are from batch means (``batches`` per chain, each
 batch a repeat), on the log scale by the delta method; the two runs are
@@ -57,9 +68,11 @@ __all__ = [
     "JointSettings",
     "Reading",
     "EncompassingResult",
-    "indicator_patterns",
-    "superset_fractions",
+    "induced_pairs",
     "cycles_of",
+    "subset_pairs",
+    "pair_holds",
+    "subset_fractions",
     "encompassing_weights",
 ]
 
@@ -75,7 +88,7 @@ MAX_RESTRICTIONS = 10
 
 @dataclass(frozen=True)
 class Restriction:
-    """One undecided relationship as the order constraints ``(earlier, later)`` it adds between model events."""
+    """One undecided relationship as the order edges ``(earlier, later)`` it adds (events or skeleton nodes)."""
 
     name: str
     pairs: tuple[tuple[str, str], ...]
@@ -139,76 +152,113 @@ class EncompassingResult:
                 "settings": self.settings.as_dict(), "seconds": self.seconds, "method": self.method}
 
 
-def indicator_patterns(draws: np.ndarray, index: Sequence[Sequence[tuple[int, int]]]) -> np.ndarray:
-    """Per draw, a bit mask with bit ``j`` set where every pair ``(a, b)`` of restriction ``j`` has ``x_a < x_b``."""
-    masks = np.zeros(draws.shape[0], dtype=np.int64)
-    for j, pairs in enumerate(index):
-        ok = np.ones(draws.shape[0], dtype=bool)
-        for a, b in pairs:
-            ok &= draws[:, a] < draws[:, b]
-        masks |= ok.astype(np.int64) << j
-    return masks
-
-
-def superset_fractions(masks: np.ndarray, k: int) -> np.ndarray:
-    """``f[S]``: the fraction of ``masks`` that contain every bit of ``S``, for all ``2^k`` subsets ``S``."""
-    counts = np.bincount(masks, minlength=1 << k).astype(float)
-    idx = np.arange(1 << k)
-    for j in range(k):
-        without = idx[(idx >> j) & 1 == 0]
-        counts[without] += counts[without | (1 << j)]
-    return counts / max(len(masks), 1)
-
-
-def cycles_of(model: Model, restrictions: Sequence[Restriction]) -> dict[int, tuple[str, ...]]:
-    """Subsets (bit masks) whose constraints close a cycle with the model's order: mask -> the cycle's events.
-
-    The model's order is reduced to reachability between the restrictions'
-    endpoints first, so each subset is checked on a graph of at most
-    ``2 * pairs`` nodes.
-    """
+def _graph(model: Model, skeleton) -> nx.DiGraph:
     g = nx.DiGraph()
     g.add_nodes_from(model.event_keys)
     g.add_edges_from((c.earlier, c.later) for c in model.constraints)
-    ends = sorted({e for r in restrictions for p in r.pairs for e in p})
-    reach = [(u, v) for u in ends for v in nx.descendants(g, u) if v in ends]
+    g.add_edges_from(skeleton)
+    return g
+
+
+def _frontier(g: nx.DiGraph, found: set, latest: bool) -> set:
+    """The members of ``found`` that ``g`` does not order before (``latest``) or after another member."""
+    if latest:
+        return {n for n in found if not (nx.descendants(g, n) & found)}
+    return {n for n in found if not (nx.ancestors(g, n) & found)}
+
+
+def induced_pairs(g: nx.DiGraph, events: set, edges) -> list[tuple[str, str]]:
+    """Event pairs ``(a, b)`` that must hold once ``edges`` are added to the order ``g``.
+
+    For each edge ``u -> v``, every event at or before ``u`` precedes every
+    event at or after ``v`` in ``g`` with all the edges added; of these only
+    the latest before (and the earliest after) are kept *with respect to
+    g*, since a draw of the encompassing model already satisfies ``g``'s
+    order among events and the dropped pairs follow from it.
+    """
+    h = g.copy()
+    h.add_edges_from(edges)
+    out = set()
+    for u, v in edges:
+        before = _frontier(g, (nx.ancestors(h, u) | {u}) & events, latest=True)
+        after = _frontier(g, (nx.descendants(h, v) | {v}) & events, latest=False)
+        out.update((a, b) for a in before for b in after if a != b)
+    return sorted(out)
+
+
+def cycles_of(model: Model, restrictions: Sequence[Restriction], skeleton=()) -> dict[int, tuple[str, ...]]:
+    """Subsets (bit masks) whose edges close a cycle with the model's order and the skeleton: mask -> the cycle."""
+    g = _graph(model, skeleton)
     out: dict[int, tuple[str, ...]] = {}
-    k = len(restrictions)
-    for mask in range(1, 1 << k):
-        small = nx.DiGraph(reach)
-        for j in range(k):
+    for mask in range(1, 1 << len(restrictions)):
+        h = g.copy()
+        for j, r in enumerate(restrictions):
             if mask >> j & 1:
-                small.add_edges_from(restrictions[j].pairs)
+                h.add_edges_from(r.pairs)
         try:
-            cycle = nx.find_cycle(small)
+            cycle = nx.find_cycle(h)
         except nx.NetworkXNoCycle:
             continue
         out[mask] = tuple(u for u, _v in cycle) + (cycle[0][0],)
     return out
 
 
-def _batched_masks(flat, seeds, settings: JointSettings, index, tick, cancel) -> list[np.ndarray]:
-    batches = []
+def subset_pairs(model: Model, restrictions: Sequence[Restriction], skeleton=(),
+                 cycles: dict | None = None) -> dict[int, list[tuple[str, str]]]:
+    """Per subset (bit mask) without a cycle, the event pairs its edges add (:func:`induced_pairs`)."""
+    g = _graph(model, skeleton)
+    events = set(model.event_keys)
+    cycles = cycles_of(model, restrictions, skeleton) if cycles is None else cycles
+    out = {}
+    for mask in range(1 << len(restrictions)):
+        if mask in cycles:
+            continue
+        edges = [p for j, r in enumerate(restrictions) if mask >> j & 1 for p in r.pairs]
+        out[mask] = induced_pairs(g, events, edges)
+    return out
+
+
+def pair_holds(draws: np.ndarray, columns: Sequence[tuple[int, int]]) -> np.ndarray:
+    """``out[d, i]``: at draw ``d`` the ``i``-th pair ``(a, b)`` of event columns has ``x_a < x_b``."""
+    if not columns:
+        return np.zeros((draws.shape[0], 0), dtype=bool)
+    a, b = np.array(columns, dtype=np.int64).T
+    return draws[:, a] < draws[:, b]
+
+
+def subset_fractions(holds: np.ndarray, required: Sequence[np.ndarray]) -> np.ndarray:
+    """Per subset, the share of draws (rows of ``holds``) where every required pair (column) holds.
+
+    The rows are reduced to their distinct patterns first: a handful of
+    patterns usually stands for many thousands of draws.
+    """
+    if holds.shape[0] == 0:
+        return np.zeros(len(required))
+    patterns, counts = np.unique(holds, axis=0, return_counts=True)
+    return np.array([counts[patterns[:, cols].all(axis=1)].sum() if len(cols) else counts.sum()
+                     for cols in required]) / holds.shape[0]
+
+
+def _batched_fractions(flat, seeds, settings: JointSettings, columns, required, tick, cancel) -> np.ndarray:
+    rows = []
     for c, seed in enumerate(seeds):
         r = run_chain(flat, seed, chain=c, iterations=settings.iterations, warmup=settings.warmup,
                       thin=settings.thin, cancel=cancel)
-        masks = indicator_patterns(r.draws, index)
-        batches.extend(np.array_split(masks, settings.batches))
+        holds = pair_holds(r.draws, columns)
+        rows.extend(subset_fractions(part, required) for part in np.array_split(holds, settings.batches))
         tick()
-    return batches
+    return np.array(rows)
 
 
-def _estimate(batches: list[np.ndarray], k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Pooled fractions, their batch-means standard errors and the pooled counts, per subset."""
-    per = np.array([superset_fractions(b, k) for b in batches])
-    sizes = np.array([len(b) for b in batches], dtype=float)
-    pooled = (per * sizes[:, None]).sum(axis=0) / sizes.sum()
-    se = per.std(axis=0, ddof=1) / np.sqrt(len(batches))
-    return pooled, se, np.rint(pooled * sizes.sum()).astype(int)
+def _estimate(per: np.ndarray, total: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Pooled fractions (batches are of equal size to within one), batch-means errors and pooled counts."""
+    pooled = per.mean(axis=0)
+    se = per.std(axis=0, ddof=1) / np.sqrt(per.shape[0])
+    return pooled, se, np.rint(pooled * total).astype(int)
 
 
 def encompassing_weights(model: Model, restrictions: Sequence[Restriction], *, entropy: int,
-                         settings: JointSettings = JointSettings(),
+                         settings: JointSettings = JointSettings(), skeleton: Sequence[tuple[str, str]] = (),
                          progress: Callable[[float], None] | None = None,
                          cancel: Callable[[], bool] | None = None) -> EncompassingResult:
     """Bayes factors of every subset of ``restrictions`` against the encompassing ``model``.
@@ -218,10 +268,15 @@ def encompassing_weights(model: Model, restrictions: Sequence[Restriction], *, e
     model : Model
         The encompassing model: every restriction left out.
     restrictions : sequence of Restriction
-        At most :data:`MAX_RESTRICTIONS`; their pairs name events of ``model``.
+        At most :data:`MAX_RESTRICTIONS`; their pairs are edges between
+        events of ``model`` or nodes of the skeleton.
     entropy : int
         Seed; the prior-only chains use ``entropy + 1``.
     settings : JointSettings
+    skeleton : sequence of (str, str)
+        The encompassing order between nodes that are not events (contexts a
+        relationship joins) and the events, as edges; empty when every
+        relationship joins two events.
 
     Returns
     -------
@@ -230,17 +285,22 @@ def encompassing_weights(model: Model, restrictions: Sequence[Restriction], *, e
     Raises
     ------
     ValueError
-        Too many restrictions, or a pair names an event the model lacks.
+        Too many restrictions, or the skeleton alone makes the order cyclic.
     """
     k = len(restrictions)
     if not 1 <= k <= MAX_RESTRICTIONS:
         raise ValueError(f"between 1 and {MAX_RESTRICTIONS} restrictions can be weighed jointly, not {k}")
-    keys = {key: i for i, key in enumerate(model.event_keys)}
-    missing = sorted({e for r in restrictions for p in r.pairs for e in p} - set(keys))
-    if missing:
-        raise ValueError(f"restrictions name events the model lacks: {', '.join(missing)}")
-    index = [[(keys[a], keys[b]) for a, b in r.pairs] for r in restrictions]
+    if not nx.is_directed_acyclic_graph(_graph(model, skeleton)):
+        raise ValueError("the skeleton makes the encompassing order cyclic")
     started = time.perf_counter()
+    cycles = cycles_of(model, restrictions, skeleton)
+    pairs = subset_pairs(model, restrictions, skeleton, cycles)
+    keys = {key: i for i, key in enumerate(model.event_keys)}
+    distinct = sorted({p for ps in pairs.values() for p in ps})
+    column = {p: i for i, p in enumerate(distinct)}
+    columns = [(keys[a], keys[b]) for a, b in distinct]
+    masks = sorted(pairs)
+    required = [np.array([column[p] for p in pairs[m]], dtype=np.int64) for m in masks]
     done = [0]
 
     def tick():
@@ -249,22 +309,25 @@ def encompassing_weights(model: Model, restrictions: Sequence[Restriction], *, e
             progress(done[0] / (2 * settings.chains))
 
     flat = flatten(model)
-    post = _batched_masks(flat, chain_seeds(entropy, settings.chains), settings, index, tick, cancel)
-    prior = _batched_masks(tempered(flat, 0.0), chain_seeds(entropy + 1, settings.chains), settings, index,
-                           tick, cancel)
-    f_post, se_post, n_post = _estimate(post, k)
-    f_prior, se_prior, n_prior = _estimate(prior, k)
-    cycles = cycles_of(model, restrictions)
+    total = settings.chains * (settings.iterations // settings.thin)
+    post = _batched_fractions(flat, chain_seeds(entropy, settings.chains), settings, columns, required, tick, cancel)
+    prior = _batched_fractions(tempered(flat, 0.0), chain_seeds(entropy + 1, settings.chains), settings, columns,
+                               required, tick, cancel)
+    f_post, se_post, n_post = _estimate(post, total)
+    f_prior, se_prior, n_prior = _estimate(prior, total)
+    where = {m: i for i, m in enumerate(masks)}
     readings = []
     for mask in range(1 << k):
         accepted = tuple(r.name for j, r in enumerate(restrictions) if mask >> j & 1)
-        estimable = mask not in cycles and n_post[mask] > 0 and n_prior[mask] > 0
+        if mask in cycles:
+            readings.append(Reading(accepted, 0.0, 0.0, None, None, 0, 0, cycles[mask]))
+            continue
+        i = where[mask]
         log_bf = mcse = None
-        if estimable:
-            log_bf = float(np.log(f_post[mask]) - np.log(f_prior[mask]))
-            mcse = float(np.hypot(se_post[mask] / f_post[mask], se_prior[mask] / f_prior[mask]))
-        readings.append(Reading(accepted, float(f_post[mask]), float(f_prior[mask]), log_bf, mcse,
-                                int(n_post[mask]), int(n_prior[mask]), cycles.get(mask)))
-    total = settings.chains * (settings.iterations // settings.thin)
+        if n_post[i] > 0 and n_prior[i] > 0:
+            log_bf = float(np.log(f_post[i]) - np.log(f_prior[i]))
+            mcse = float(np.hypot(se_post[i] / f_post[i], se_prior[i] / f_prior[i]))
+        readings.append(Reading(accepted, float(f_post[i]), float(f_prior[i]), log_bf, mcse,
+                                int(n_post[i]), int(n_prior[i])))
     return EncompassingResult(tuple(r.name for r in restrictions), tuple(readings), total, total, settings,
                               time.perf_counter() - started)

@@ -12,11 +12,13 @@ are still enumerated: each of their ``2^e`` decisions is a *family*, one
 background job whose marginal likelihood (stepping-stone sampling) anchors
 the Bayes factors of its ``2^u`` readings of the uncertain relationships.
 
-Each relationship's constraints are found by compiling the family's model
-with only that relationship accepted and taking the order constraints it
-adds; the two compiles must agree on everything else (events, evidence,
-phases, range), since otherwise the reading is not a restriction and the
-method does not apply.
+Each relationship is one edge between its two contexts: their events, or
+for a context that is not an event (an undated deposit, say) a node of the
+*skeleton*, the record's order between such contexts and the events
+(:func:`skeleton_of`).  Each relationship is also compiled alone, and the
+model must differ from the encompassing one in its order only, by what the
+edge implies; otherwise the reading is not a restriction and the method
+does not apply.
 """
 
 from __future__ import annotations
@@ -25,14 +27,14 @@ import itertools
 
 import networkx as nx
 
-from chronology.engine.encompassing import MAX_RESTRICTIONS, Restriction
+from chronology.engine.encompassing import MAX_RESTRICTIONS, Restriction, induced_pairs
 from chronology.runs.compile import CompiledModel, ModelRefused
 from chronology.runs.sources import version_label
 
-from .variants import Decisions, compile_variant
+from .variants import Decisions, compile_variant, order_of
 
 __all__ = ["MAX_JOINT_ITEMS", "MAX_JOINT_EQUALITIES", "JOINT_LIMITS", "JOINT_DEFAULTS", "families",
-           "edges_of", "check_family", "restrictions_of", "reading_name"]
+           "edges_of", "skeleton_of", "check_family", "restrictions_of", "reading_name"]
 
 #: Most uncertain relationships weighed jointly in one family (2^10 readings).
 MAX_JOINT_ITEMS = MAX_RESTRICTIONS
@@ -103,33 +105,61 @@ def _not_a_restriction(rid: int, why: str) -> ModelRefused:
                         "or weigh the alternatives one by one", status=422, field="version", relationship=rid)
 
 
-def edges_of(family: dict, encompassing: CompiledModel, relationships, labels) -> dict[int, tuple[str, str]]:
-    """Each jointly weighed relationship as one order constraint (earlier event, later event).
+def _node(context: int, events: dict) -> str:
+    # a context the model has no event for is a node of the skeleton only
+    return events.get(context, f"context:{context}")
 
-    Both contexts must be events of the model: then the order a set of
-    accepted relationships induces among the events is the closure of the
-    encompassing order and their edges.  Through a context that is not an
-    event two relationships can order events that neither orders alone, and
-    the readings are not the intersections the method needs.
+
+def edges_of(family: dict, encompassing: CompiledModel, relationships) -> dict[int, tuple[str, str]]:
+    """Each jointly weighed relationship as one order edge (earlier node, later node).
+
+    A context with an event is its event; any other context is a skeleton
+    node ``context:<id>`` (:func:`skeleton_of` orders it against the events).
 
     Raises
     ------
     ModelRefused
-        ``not-a-restriction`` (422) naming the relationship.
+        ``not-a-restriction`` (422) when a relationship's two contexts are one event.
     """
     by_id = {r.id: r for r in relationships}
     events = encompassing.context_events
     out = {}
     for rid in family["joint"]:
         rel = by_id[rid]
-        for end in (rel.earlier, rel.later):
-            if end not in events:
-                raise _not_a_restriction(rid, f"context {labels.get(end, end)} is not an event of the model (neither dated, nor in a "
-                                         "phase, nor estimated), so its effect depends on the other relationships")
-        if events[rel.earlier] == events[rel.later]:
+        a, b = _node(rel.earlier, events), _node(rel.later, events)
+        if a == b:
             raise _not_a_restriction(rid, "its two contexts are one event under this reading")
-        out[rid] = (events[rel.earlier], events[rel.later])
+        out[rid] = (a, b)
     return out
+
+
+def skeleton_of(version, family: dict, encompassing: CompiledModel, edges: dict) -> list[tuple[str, str]]:
+    """The encompassing order between the skeleton's contexts and the events, as edges between their nodes.
+
+    It is the order the whole record induces on the event contexts and the
+    relationships' other contexts together (``induced_order``) under the
+    family's decisions with every jointly weighed relationship left out,
+    keeping the pairs that touch a skeleton node.  A skeleton context merged
+    with an event context is that event.
+    """
+    from chronology.engine.induced import induced_classes, induced_order
+
+    extras = sorted({int(n.split(":")[1]) for e in edges.values() for n in e if n.startswith("context:")})
+    if not extras:
+        return []
+    graph, _contexts = order_of(version, Decisions(frozenset(family["accepted"]), frozenset(family["rejected"])))
+    events = dict(encompassing.context_events)
+    chosen = sorted(set(events) | set(extras))
+    for group in induced_classes(graph, chosen):
+        known = [events[c] for c in group if c in events]
+        for c in group:
+            events.setdefault(c, known[0] if known else f"context:{min(group)}")
+    out = set()
+    for a, b, _strict in induced_order(graph, chosen):
+        na, nb = _node(a, events), _node(b, events)
+        if na != nb and (na.startswith("context:") or nb.startswith("context:")):
+            out.add((na, nb))
+    return sorted(out)
 
 
 def check_family(project, family: dict, encompassing: CompiledModel) -> None:
@@ -138,30 +168,31 @@ def check_family(project, family: dict, encompassing: CompiledModel) -> None:
 
     from .variants import record_of
 
-    _p, _r, _c, contexts, relationships = record_of(find_version(project, family["version"]))
-    edges_of(family, encompassing, relationships, {c.id: c.label for c in contexts})
+    edges_of(family, encompassing, record_of(find_version(project, family["version"]))[4])
 
 
 def _implied(graph: nx.DiGraph, extra, pairs) -> bool:
     g = graph.copy()
     g.add_edges_from(extra)
-    return all(nx.has_path(g, a, b) for a, b in pairs)
+    return all(g.has_node(a) and g.has_node(b) and nx.has_path(g, a, b) for a, b in pairs)
 
 
 def restrictions_of(version, family: dict, encompassing: CompiledModel, range_=None):
-    """Each jointly weighed relationship as the constraint it adds to ``encompassing``.
+    """Each jointly weighed relationship as the edge it adds to ``encompassing``, and the skeleton.
 
     Each is compiled alone as well: a relationship whose acceptance alone is
     refused (a cycle with the phases' order, say) is set apart with the
     reason, and for the others the compiled model must differ from the
-    encompassing one by exactly the relationship's edge (same events,
-    evidence, phases and range; the same order once the edge is added).
+    encompassing one in its order only (same events, evidence, phases and
+    range), by exactly the event pairs that the edge implies with the
+    encompassing order and the skeleton (:func:`chronology.engine.encompassing.induced_pairs`).
 
     Returns
     -------
-    (list of Restriction, dict)
-        The restrictions (named by relationship id) and the relationships
-        whose acceptance alone is refused, id -> ``{"code", "reason"}``.
+    (list of Restriction, list of edges, dict)
+        The restrictions (named by relationship id), the skeleton
+        (:func:`skeleton_of`) and the relationships whose acceptance alone is
+        refused, id -> ``{"code", "reason"}``.
 
     Raises
     ------
@@ -170,10 +201,13 @@ def restrictions_of(version, family: dict, encompassing: CompiledModel, range_=N
     """
     from .variants import record_of
 
-    _p, _r, _c, contexts, relationships = record_of(version)
-    edges = edges_of(family, encompassing, relationships, {c.id: c.label for c in contexts})
-    graph = nx.DiGraph([(c.earlier, c.later) for c in encompassing.model.constraints])
-    graph.add_nodes_from(encompassing.model.event_keys)
+    relationships = record_of(version)[4]
+    edges = edges_of(family, encompassing, relationships)
+    skeleton = skeleton_of(version, family, encompassing, edges)
+    base = nx.DiGraph([(c.earlier, c.later) for c in encompassing.model.constraints])
+    base.add_nodes_from(encompassing.model.event_keys)
+    base.add_edges_from(skeleton)
+    events = set(encompassing.model.event_keys)
     equal_yes, equal_no = set(family["accepted"]), set(family["rejected"]) - set(family["joint"])
     out, refused = [], {}
     for rid in family["joint"]:
@@ -183,14 +217,15 @@ def restrictions_of(version, family: dict, encompassing: CompiledModel, range_=N
         except ModelRefused as exc:
             refused[rid] = {"code": exc.code, "reason": exc.message}
             continue
-        added = [(c.earlier, c.later) for c in one.model.constraints]
-        one_graph = nx.DiGraph(added)
-        one_graph.add_nodes_from(one.model.event_keys)
         if not _same_but_order(encompassing, one):
             raise _not_a_restriction(rid, "accepting it changes the model's events, phases or range, not only its "
                                      "order")
-        if not (_implied(graph, [edges[rid]], added) and _implied(one_graph, [], list(graph.edges))
-                and _implied(one_graph, [], [edges[rid]])):
-            raise _not_a_restriction(rid, "accepting it orders events other than its own two")
+        added = [(c.earlier, c.later) for c in one.model.constraints]
+        one_graph = nx.DiGraph(added)
+        one_graph.add_nodes_from(one.model.event_keys)
+        enc_pairs = [(c.earlier, c.later) for c in encompassing.model.constraints]
+        needed = induced_pairs(base, events, [edges[rid]])
+        if not (_implied(base, [edges[rid]], added) and _implied(one_graph, [], enc_pairs + needed)):
+            raise _not_a_restriction(rid, "accepting it orders the events otherwise than its edge implies")
         out.append(Restriction(str(rid), (edges[rid],)))
-    return out, refused
+    return out, skeleton, refused

@@ -39,7 +39,8 @@ def estimate_family(job, reporter: jobs.Reporter) -> dict:
     rng = tuple(job.params["range"]) if job.params.get("range") else None
     try:
         compiled = compile_candidate(job.project, family, rng)
-        restrictions, refused = restrictions_of(find_version(job.project, family["version"]), family, compiled, rng)
+        restrictions, skeleton, refused = restrictions_of(find_version(job.project, family["version"]), family,
+                                                          compiled, rng)
     except ModelRefused as exc:
         raise refused_in_job(exc) from exc
     ss = SteppingStoneSettings(**job.params["settings"])
@@ -52,13 +53,26 @@ def estimate_family(job, reporter: jobs.Reporter) -> dict:
         weights = None
         if restrictions:
             weights = encompassing_weights(compiled.model, restrictions, entropy=int(job.params["seed"]) + 1,
-                                           settings=js, cancel=reporter.cancelled,
+                                           settings=js, skeleton=skeleton, cancel=reporter.cancelled,
                                            progress=lambda f: reporter.progress(0.65 + 0.35 * f, step="readings"))
     except SamplingCancelled as exc:
         raise jobs.JobCancelled() from exc
+    labels = _node_labels(find_version(job.project, family["version"]))
+    joint = weights.as_dict() if weights is not None else None
+    for reading in (joint or {}).get("readings", ()):
+        if reading["cycle"]:
+            reading["cycle"] = [labels.get(n, n) for n in reading["cycle"]]
     return {"candidate": family, "model_hash": compiled.model_hash, **ml.as_dict(),
             "refused_relationships": {str(k): v for k, v in refused.items()},
-            "joint": weights.as_dict() if weights is not None else None}
+            "joint": joint}
+
+
+def _node_labels(version) -> dict[str, str]:
+    from .variants import record_of
+
+    contexts = record_of(version)[3]
+    return {**{f"ctx:{c.id}": f"context {c.label}" for c in contexts},
+            **{f"context:{c.id}": f"context {c.label}" for c in contexts}}
 
 
 def _refusal(reading: dict, refused_names: list[str], refused: dict) -> tuple[str, str] | None:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import itertools
 
+import networkx as nx
 import numpy as np
 import pytest
 from scipy import integrate
@@ -13,8 +14,9 @@ from chronology.engine.encompassing import (
     Restriction,
     cycles_of,
     encompassing_weights,
-    indicator_patterns,
-    superset_fractions,
+    induced_pairs,
+    pair_holds,
+    subset_fractions,
 )
 from chronology.engine.model_compiler import compile_model
 from tests.engine.test_marginal_likelihood import EDGES, GRID, L, R, U, cell_integral, normal_ll, one_phase_log_z
@@ -32,17 +34,32 @@ def _before(i, j):
     return Restriction(f"{i}<{j}", ((f"ctx:pc{i}", f"ctx:pc{j}"),))
 
 
-def test_superset_fractions_count_the_masks_that_hold_every_bit():
-    masks = np.random.default_rng(1).integers(0, 16, 500)
-    f = superset_fractions(masks, 4)
-    for s in range(16):
-        assert f[s] == pytest.approx(np.mean((masks & s) == s))
+def test_subset_fractions_count_the_draws_where_every_required_pair_holds():
+    holds = np.random.default_rng(1).random((500, 4)) < 0.6
+    required = [np.array([], dtype=int), np.array([0]), np.array([1, 3]), np.array([0, 1, 2, 3])]
+    expected = [1.0] + [holds[:, r].all(axis=1).mean() for r in required[1:]]
+    assert subset_fractions(holds, required) == pytest.approx(expected)
 
 
-def test_a_restriction_holds_only_where_all_its_pairs_are_in_order():
-    draws = np.array([[1.0, 2.0, 3.0], [2.0, 1.0, 3.0], [3.0, 2.0, 1.0]])
-    masks = indicator_patterns(draws, [[(0, 1)], [(0, 1), (1, 2)], [(2, 0)]])
-    assert masks.tolist() == [0b011, 0b000, 0b100]
+def test_a_pair_holds_where_the_earlier_event_is_earlier():
+    draws = np.array([[1.0, 2.0, 3.0], [2.0, 1.0, 3.0]])
+    assert pair_holds(draws, [(0, 1), (2, 0)]).tolist() == [[True, False], [False, False]]
+
+
+def test_two_edges_through_a_context_outside_the_model_order_the_events_that_neither_orders_alone():
+    g = nx.DiGraph()
+    g.add_nodes_from(["a", "b", "z"])
+    events = {"a", "b"}
+    assert induced_pairs(g, events, [("a", "z")]) == []
+    assert induced_pairs(g, events, [("z", "b")]) == []
+    assert induced_pairs(g, events, [("a", "z"), ("z", "b")]) == [("a", "b")]
+
+
+def test_only_the_latest_event_before_and_the_earliest_after_an_edge_are_kept():
+    # a < b < c already; the edge c -> d then needs c < d only, which implies a < d and b < d
+    g = nx.DiGraph([("a", "b"), ("b", "c")])
+    g.add_node("d")
+    assert induced_pairs(g, {"a", "b", "c", "d"}, [("c", "d")]) == [("c", "d")]
 
 
 def test_restrictions_that_contradict_each_other_are_listed_as_a_cycle():
@@ -124,3 +141,15 @@ def test_the_bayes_factor_of_an_ordering_equals_numerical_integration():
     exact = _ordered_pair_log_z(*mus) - one_phase_log_z(list(mus))
     assert exact < -0.3
     assert abs(reading.log_bf - exact) <= 4 * reading.mcse + 0.01
+
+
+def test_a_reading_through_a_context_outside_the_model_has_the_prior_share_of_its_induced_order():
+    # "c0 before z" and "z before c1" with z no event: alone each is no restriction (log BF 0 exactly), together
+    # they order two exchangeable members, prior share 1/2 (a permutation count)
+    model = _phase([150.0, 180.0])
+    both = encompassing_weights(model, [Restriction("a", (("ctx:pc0", "z"),)), Restriction("b", (("z", "ctx:pc1"),))],
+                                entropy=9, settings=SETTINGS, skeleton=[])
+    by = {frozenset(r.accepted): r for r in both.readings}
+    assert by[frozenset({"a"})].log_bf == 0.0 and by[frozenset({"b"})].log_bf == 0.0
+    joint = by[frozenset({"a", "b"})]
+    assert abs(joint.prior_fraction - 0.5) <= 5 * joint.prior_fraction * joint.mcse + 1e-3

@@ -112,24 +112,24 @@ def test_readings_that_close_a_cycle_are_listed_as_refused(readings, client_for,
     assert len(result["relationships"]) == 3
 
 
-def test_a_relationship_to_a_context_outside_the_model_is_refused_for_joint_weighing(
+def test_relationships_through_a_context_outside_the_model_are_weighed_through_the_record_order(
         readings, client_for, project, actor, analyst_actor, django_capture_on_commit_callbacks):
+    # 2003 is undated and in no phase: "2003 above 1006" or "2001 above 2003" alone orders no two events, but
+    # together they put 2001 after 1006
     writes.add_context(project, actor, label="2003", kind="deposit", area="B")
-    version = _more_uncertain(project, actor, analyst_actor, readings, ("2003", "1006"))
-    response = _post(client_for, project, {"version": version.pk, "alternatives": True, "method": "joint"},
-                     django_capture_on_commit_callbacks)
-    assert response.status_code == 422, response.json()
-    body = response.json()
-    assert body["code"] == "not-a-restriction" and "not an event of the model" in body["message"]
-
-
-def test_too_many_relationships_for_joint_weighing_are_refused(readings, client_for, project, monkeypatch,
-                                                               django_capture_on_commit_callbacks):
-    monkeypatch.setattr(joint, "MAX_JOINT_ITEMS", 0)
-    response = _post(client_for, project, {"version": readings["sequential"].pk, "alternatives": True,
-                                           "method": "joint"}, django_capture_on_commit_callbacks)
-    assert response.status_code == 422
-    assert response.json()["code"] == "too-many-alternatives"
+    version = _more_uncertain(project, actor, analyst_actor, readings, ("2003", "1006"), ("2001", "2003"))
+    response = _post(client_for, project, {"version": version.pk, "alternatives": True, "method": "joint",
+                                           "settings": JOINT, "seed": 6}, django_capture_on_commit_callbacks)
+    assert response.status_code == 202, response.json()
+    body = client_for(Role.VIEWER).get(response["Location"]).json()
+    assert body["state"] == "done", body["error"]
+    first = readings["uncertain"].pk
+    rows = {tuple(c["accepted"]): c for c in body["result"]["candidates"] if first not in c["accepted"]}
+    assert len(rows) == 4
+    alone = [c for key, c in rows.items() if len(key) == 1]
+    assert len(alone) == 2 and all(c["log_bayes_factor_vs_encompassing"] == 0.0 for c in alone)
+    (together,) = [c for key, c in rows.items() if len(key) == 2]
+    assert 0.0 < together["prior_fraction"] < 1.0
 
 
 @pytest.mark.parametrize("given, field", [
