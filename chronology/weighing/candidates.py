@@ -22,13 +22,11 @@ holding every one, and a note says so.
 
 from __future__ import annotations
 
-import itertools
-
 from chronology.runs.compile import CompiledModel, ModelRefused
 from chronology.runs.sources import find_version, version_label
 
-from .joint import check_family, families
-from .variants import Decisions, compile_variant, record_of, undecided_items
+from .joint import check_family, families, reading_name
+from .variants import Decisions, compile_variant, decision_sets, record_of, undecided_items
 
 __all__ = ["MAX_ALTERNATIVE_ITEMS", "MAX_VERSIONS", "METHODS", "Prepared", "prepare", "compile_candidate"]
 
@@ -100,16 +98,15 @@ def _alternatives(project, version_id, method: str) -> tuple[str, list[dict]]:
         raise ModelRefused(
             "too-many-alternatives",
             f"the version leaves {len(items)} items undecided: 2^{len(items)} = {2 ** len(items)} marginal "
-            f"likelihoods is too many to weigh one by one (at most {MAX_ALTERNATIVE_ITEMS} items); decide some "
-            "first, or commit the readings you want to compare as versions and weigh those",
+            f"likelihoods is too many to weigh one by one (at most {MAX_ALTERNATIVE_ITEMS} items); weigh them "
+            "jointly (method \"joint\"), decide some first, or commit the readings you want to compare as "
+            "versions and weigh those",
             status=422, field="version", undecided=[rid for rid, _k in items])
     label = version_label(version)
     out = []
-    for bits in itertools.product((True, False), repeat=len(items)):
-        accepted = sorted(rid for (rid, _k), yes in zip(items, bits) if yes)
-        rejected = sorted(rid for (rid, _k), yes in zip(items, bits) if not yes)
-        words = ", ".join(f"#{rid} {'accepted' if yes else 'not accepted'}" for (rid, _k), yes in zip(items, bits))
-        out.append({"name": f"{label}: {words}", "version": version.pk, "accepted": accepted, "rejected": rejected})
+    for accepted, rejected in decision_sets(items):
+        out.append({"name": reading_name(label, items, accepted), "version": version.pk, "accepted": accepted,
+                    "rejected": rejected})
     return "alternatives", out
 
 

@@ -23,15 +23,13 @@ does not apply.
 
 from __future__ import annotations
 
-import itertools
-
 import networkx as nx
 
 from chronology.engine.encompassing import MAX_RESTRICTIONS, Restriction, induced_pairs
 from chronology.runs.compile import CompiledModel, ModelRefused
 from chronology.runs.sources import version_label
 
-from .variants import Decisions, compile_variant, order_of
+from .variants import Decisions, compile_variant, decision_sets, order_of
 
 __all__ = ["MAX_JOINT_ITEMS", "MAX_JOINT_EQUALITIES", "JOINT_LIMITS", "JOINT_DEFAULTS", "families",
            "edges_of", "skeleton_of", "check_family", "restrictions_of", "reading_name"]
@@ -76,9 +74,7 @@ def families(version, items) -> list[dict]:
             status=422, field="version", undecided=[rid for rid, _k in items])
     label = version_label(version)
     out = []
-    for bits in itertools.product((True, False), repeat=len(equalities)):
-        accepted = sorted(rid for (rid, _k), yes in zip(equalities, bits) if yes)
-        rejected = sorted(rid for (rid, _k), yes in zip(equalities, bits) if not yes)
+    for accepted, rejected in decision_sets(equalities):
         words = _words(equalities, set(accepted))
         name = f"{label}: {words}; " if words else f"{label}: "
         out.append({"name": name + f"{len(uncertain)} uncertain relationships weighed jointly",

@@ -23,12 +23,13 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import itertools
 
 from chronology.engine.errors import EngineError
 from chronology.runs.compile import ARRANGEMENTS, CompiledModel, ModelRefused, build_model, spec_from_content
 from chronology.runs.sources import evidence_at, version_parts
 
-__all__ = ["VARIATION_KEYS", "Decisions", "check_variation", "compile_variant", "order_of", "record_of",
+__all__ = ["VARIATION_KEYS", "Decisions", "check_variation", "compile_variant", "decision_sets", "order_of", "record_of",
            "undecided_items"]
 
 VARIATION_KEYS = ("label", "curve", "delta_r", "outlier_prior", "range", "arrangement")
@@ -98,6 +99,13 @@ def undecided_items(content: dict, relationships) -> list[tuple[int, str]]:
     items = [(rid, "equality") for rid, d in eff["equalities"].items() if d == "undecided"]
     items += [(rid, "uncertain") for rid, d in eff["uncertain"].items() if d == "undecided"]
     return sorted(items)
+
+
+def decision_sets(items):
+    """Each of the ``2^k`` ways of deciding ``items`` ((id, kind) pairs): (accepted ids, rejected ids), all accepted first."""
+    for bits in itertools.product((True, False), repeat=len(items)):
+        yield (sorted(rid for (rid, _k), yes in zip(items, bits) if yes),
+               sorted(rid for (rid, _k), yes in zip(items, bits) if not yes))
 
 
 def _decided(content: dict, items: list[tuple[int, str]], decisions: Decisions) -> dict:
