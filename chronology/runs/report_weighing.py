@@ -25,7 +25,7 @@ def weighing_for_report(run) -> dict | None:
         result = job.result or {}
         shown, more = top_readings(result)
         rows = [_row(c, c.get("name") in names or _of_family(c, run)) for c in shown]
-        relationships = [{"relationship": f"#{r['relationship']}",
+        relationships = [{"relationship": f"#{r['relationship']} {r.get('text', '')}".strip(),
                           "probability": f"{r['probability_accepted']:.3f} ± {r['probability_accepted_mcse']:.3f}"}
                          for r in result.get("relationships") or []]
         return {"rows": rows, "more": more, "relationships": relationships, "method": result.get("method", ""),

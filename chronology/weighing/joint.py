@@ -72,14 +72,17 @@ def families(version, items) -> list[dict]:
             f"undecided: at most {MAX_JOINT_ITEMS} relationships are weighed jointly and at most "
             f"{MAX_JOINT_EQUALITIES} equalities beside them; decide some first",
             status=422, field="version", undecided=[rid for rid, _k in items])
+    from chronology.interpretations.services import relationship_texts
+
     label = version_label(version)
+    texts = {str(k): v for k, v in relationship_texts(version.project, version.record_revision, uncertain).items()}
     out = []
     for accepted, rejected in decision_sets(equalities):
         words = _words(equalities, set(accepted))
         name = f"{label}: {words}; " if words else f"{label}: "
         out.append({"name": name + f"{len(uncertain)} uncertain relationships weighed jointly",
                     "version": version.pk, "label": label, "accepted": accepted, "rejected": rejected + uncertain,
-                    "joint": uncertain, "items": [list(i) for i in items]})
+                    "joint": uncertain, "texts": texts, "items": [list(i) for i in items]})
     return out
 
 

@@ -77,13 +77,14 @@ def _candidates(rows: list[dict], sims: np.ndarray) -> tuple[str, list[dict]]:
     return best["name"], out
 
 
-def _inclusion(rows: list[dict], sims: np.ndarray, relationships: list[int]) -> list[dict]:
+def _inclusion(rows: list[dict], sims: np.ndarray, relationships: list[int], texts: dict) -> list[dict]:
     p = probabilities(np.array([r["log_ml"] for r in rows]))
     w = probabilities(sims)
     out = []
     for rid in relationships:
         member = np.array([rid in r["accepted"] for r in rows])
-        out.append({"relationship": rid, "probability_accepted": float(p[member].sum()),
+        out.append({"relationship": rid, "text": texts.get(str(rid), ""),
+                    "probability_accepted": float(p[member].sum()),
                     "probability_accepted_mcse": float(w[:, member].sum(axis=1).std(ddof=1))})
     return out
 
@@ -92,9 +93,10 @@ def combine_joint(job, children) -> dict:
     """The comparison of every reading of the families that finished, with each relationship's probability."""
     rows, refused, failed = [], list(job.params.get("refused") or []), []
     relationships: list[int] = []
+    texts: dict = {}
     for child in children:
         family = child.params["candidate"]
-        relationships = [int(r) for r in family["joint"]]
+        relationships, texts = [int(r) for r in family["joint"]], family.get("texts") or {}
         if child.state != JobState.DONE:
             failed.append({"name": family["name"], "job": str(child.pk), "state": child.state, "error": child.error})
             continue
@@ -109,7 +111,7 @@ def combine_joint(job, children) -> dict:
     return {"best": best, "candidates": candidates, "prior_weights": "equal", "caution": PRIOR_CAUTION,
             "strength_scale": "Kass & Raftery (1995), 2 ln BF: <2 bare mention, 2-6 positive, 6-10 strong, "
                               ">10 very strong",
-            "failed": failed, "refused": refused, "relationships": _inclusion(rows, sims, relationships),
+            "failed": failed, "refused": refused, "relationships": _inclusion(rows, sims, relationships, texts),
             "range": job.params["range"], "notes": job.params.get("notes") or [],
             "curves": job.params.get("curves") or [], "method": JOINT_METHOD,
             "settings": {**job.params["settings"], **{f"joint_{k}": v for k, v in job.params["joint"].items()}},
