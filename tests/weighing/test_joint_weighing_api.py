@@ -164,7 +164,7 @@ def test_the_runs_page_and_the_run_report_show_each_relationships_probability(re
     rid = readings["uncertain"].pk
     assert "Each relationship weighed jointly" in html and f"#{rid}" in html
     found = weighing_for_report(SimpleNamespace(project=project, version_id=readings["sequential"].pk))
-    assert [r["relationship"] for r in found["relationships"]] == [f"#{rid}"]
+    assert [r["relationship"] for r in found["relationships"]] == [f"#{rid} 2001 above 1003"]
     assert len(found["rows"]) == 2 and found["more"] == 0
 
 
