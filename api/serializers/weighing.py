@@ -11,10 +11,16 @@ class WeighingInput(serializers.Serializer):
                                                "same dating evidence.")
     version = serializers.IntegerField(required=False, allow_null=True, default=None,
                                        help_text="With alternatives: true, weigh the 2^k ways of deciding the items "
-                                                 "this version leaves undecided (k <= 4).")
+                                                 "this version leaves undecided: one by one for k <= 4, jointly "
+                                                 "beyond (up to 10 uncertain relationships and 4 equalities).")
     alternatives = serializers.BooleanField(required=False, default=False)
+    method = serializers.ChoiceField(choices=("auto", "one-by-one", "joint"), required=False, default="auto",
+                                     help_text="How alternatives are weighed: auto (one by one up to 4 items, "
+                                               "jointly beyond), one-by-one, or joint (the uncertain "
+                                               "relationships from one encompassing model).")
     settings = serializers.DictField(required=False, default=dict,
-                                     help_text="Stepping-stone settings: stones, draws, thin, warmup, repeats.")
+                                     help_text="Stepping-stone settings: stones, draws, thin, warmup, repeats; for "
+                                               "joint weighing also joint_chains, joint_iterations, joint_warmup.")
     seed = serializers.IntegerField(required=False, allow_null=True, default=None, min_value=0)
 
     def validate(self, data):
@@ -22,6 +28,8 @@ class WeighingInput(serializers.Serializer):
             raise serializers.ValidationError({"versions": "give either versions or version, not both"})
         if data.get("version") is not None and not data.get("alternatives"):
             raise serializers.ValidationError({"alternatives": "with one version, set alternatives: true"})
+        if data.get("versions") is not None and data.get("method", "auto") != "auto":
+            raise serializers.ValidationError({"method": "method applies to the alternatives of one version"})
         if data.get("versions") is None and data.get("version") is None:
             raise serializers.ValidationError({"versions": "give versions (a list of ids) or version with "
                                                            "alternatives: true"})

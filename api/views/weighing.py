@@ -2,7 +2,9 @@
 
 ``weighings/``: POST ``{"versions": [ids]}`` (committed versions that use the
 same evidence) or ``{"version": id, "alternatives": true}`` (the 2^k ways of
-deciding what the version leaves undecided) answers 202 with the weighing's
+deciding what the version leaves undecided; ``"method": "joint"`` weighs the
+uncertain relationships together from one encompassing model, as happens
+anyway beyond four items) answers 202 with the weighing's
 URL; GET gives each candidate's state and, when all are done, marginal
 likelihoods, Bayes factors and posterior probabilities under equal prior
 weights with Monte Carlo errors, and the caution that Bayes factors depend
@@ -92,7 +94,7 @@ class WeighingViewSet(_Jobs):
             job = evidence_jobs.start_weighing(
                 self.get_project(), actor_for(request), versions=v["versions"],
                 alternatives_of=v["version"] if v["versions"] is None else None, settings=v["settings"],
-                seed=v["seed"])
+                seed=v["seed"], method=v["method"])
         except ModelRefused as exc:
             raise _refused(exc) from None
         return self._accepted(job)

@@ -43,6 +43,7 @@ __all__ = [
     "SavageDickey",
     "compare",
     "evidence_strength",
+    "strength_of",
     "savage_dickey_outlier",
 ]
 
@@ -68,7 +69,7 @@ def evidence_strength(log_bf: float) -> str:
 UNDETERMINED = "not determined: the Monte Carlo error is too large (run more repeats or stones)"
 
 
-def _strength(log_bf: float, mcse: float) -> str:
+def strength_of(log_bf: float, mcse: float) -> str:
     # the order of two candidates is not established when log BF is within two standard errors of zero,
     # and no word is given for an error over one log unit (common practice)
     if mcse > 1.0 or abs(log_bf) < 2.0 * mcse:
@@ -114,7 +115,7 @@ class Comparison:
                 "log_bayes_factor_of_best": lbf,
                 "log_bayes_factor_of_best_mcse": 0.0 if name == best else self.log_bayes_factor_mcse(best, name),
                 "bayes_factor_of_best": float(np.exp(lbf)) if lbf < 700 else None,
-                "strength": None if name == best else _strength(lbf, self.log_bayes_factor_mcse(best, name)),
+                "strength": None if name == best else strength_of(lbf, self.log_bayes_factor_mcse(best, name)),
             })
         return {"best": best, "candidates": rows, "prior_weights": "equal", "caution": PRIOR_CAUTION,
                 "strength_scale": "Kass & Raftery (1995), 2 ln BF: <2 bare mention, 2-6 positive, 6-10 strong, "

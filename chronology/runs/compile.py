@@ -208,7 +208,8 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         notes.append("a SYNTHETIC calibration curve was used: the dates are for demonstration only")
     notes.append(f"outlier component: the evidence's error times {OUTLIER_SIGMA_FACTOR:g} (Christen 1994 mixture); "
                  "flat over the range for termini, uniform and fixed dates")
-    return CompiledModel(model, tuple(curves), tuple(notes), tuple(table), question_labels)
+    return CompiledModel(model, tuple(curves), tuple(notes), tuple(table), question_labels,
+                         context_events={c: f"ctx:{rep[c]}" for c in chosen})
 
 
 # ---------------------------------------------------------------------------

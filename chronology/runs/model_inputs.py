@@ -142,7 +142,11 @@ class ModelSpec:
 
 @dataclass(frozen=True, eq=False)
 class CompiledModel:
-    """The model and what it was built from, for the run record."""
+    """The model and what it was built from, for the run record.
+
+    ``context_events`` maps each context the model uses to its event key
+    (contexts merged into one event share it).
+    """
 
     model: Model
     curves: tuple[dict, ...]
@@ -150,6 +154,7 @@ class CompiledModel:
     evidence: tuple[dict, ...]
     question_labels: dict = field(default_factory=dict)
     record_revision: int | None = None
+    context_events: dict = field(default_factory=dict)
 
     @property
     def model_hash(self) -> str:

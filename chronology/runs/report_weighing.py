@@ -14,6 +14,7 @@ __all__ = ["weighing_for_report"]
 def weighing_for_report(run) -> dict | None:
     """The newest finished weighing of ``run``'s project with ``run``'s version among its candidates."""
     from chronology.models import Job, JobState
+    from chronology.weighing.evidence_jobs import top_readings
     from chronology.weighing.evidence_work import WEIGHING_KIND
 
     finished = Job.objects.filter(project=run.project, kind=WEIGHING_KIND, state=JobState.DONE)
@@ -22,11 +23,20 @@ def weighing_for_report(run) -> dict | None:
         if not names:
             continue
         result = job.result or {}
-        rows = [_row(c, c.get("name") in names) for c in sorted(result.get("candidates") or [],
-                                                                   key=lambda c: -c["posterior_probability"])]
-        return {"rows": rows, "method": result.get("method", ""), "caution": result.get("caution", ""),
-                "finished_at": job.finished_at, "failed": [f["name"] for f in result.get("failed") or []]}
+        shown, more = top_readings(result)
+        rows = [_row(c, c.get("name") in names or _of_family(c, run)) for c in shown]
+        relationships = [{"relationship": f"#{r['relationship']} {r.get('text', '')}".strip(),
+                          "probability": f"{r['probability_accepted']:.3f} ± {r['probability_accepted_mcse']:.3f}"}
+                         for r in result.get("relationships") or []]
+        return {"rows": rows, "more": more, "relationships": relationships, "method": result.get("method", ""),
+                "caution": result.get("caution", ""), "finished_at": job.finished_at,
+                "failed": [f["name"] for f in result.get("failed") or []]}
     return None
+
+
+def _of_family(c: dict, run) -> bool:
+    # a joint weighing's readings are named by their decisions, and the run's version is one of its families
+    return c.get("version") == run.version_id
 
 
 def _row(c: dict, this_run: bool) -> dict:

@@ -8,8 +8,11 @@ Two ways to ask:
 * one version's *alternatives*: each of the ``2^k`` ways of deciding the
   ``k`` equalities and uncertain relationships it leaves undecided, for
   ``k <= MAX_ALTERNATIVE_ITEMS``; a choice that makes the order inconsistent
-  cannot be true and is listed as refused, with its reason.  Larger ``k`` is
-  refused: the number of marginal likelihoods doubles with every item.
+  cannot be true and is listed as refused, with its reason.  For larger
+  ``k`` (or when asked, ``method="joint"``) the uncertain relationships are
+  weighed jointly from one encompassing model per decision of the
+  equalities (:mod:`chronology.weighing.joint`), since the number of
+  marginal likelihoods would double with every item.
 
 Every candidate is compiled on one overall range, since a marginal
 likelihood depends on the range (the prior is uniform over it): when the
@@ -19,19 +22,20 @@ holding every one, and a note says so.
 
 from __future__ import annotations
 
-import itertools
-
 from chronology.runs.compile import CompiledModel, ModelRefused
 from chronology.runs.sources import find_version, version_label
 
-from .variants import Decisions, compile_variant, record_of, undecided_items
+from .joint import check_family, families, reading_name
+from .variants import Decisions, compile_variant, decision_sets, record_of, undecided_items
 
-__all__ = ["MAX_ALTERNATIVE_ITEMS", "MAX_VERSIONS", "Prepared", "prepare", "compile_candidate"]
+__all__ = ["MAX_ALTERNATIVE_ITEMS", "MAX_VERSIONS", "METHODS", "Prepared", "prepare", "compile_candidate"]
 
 #: Most undecided items whose 2^k alternatives are weighed one by one.
 MAX_ALTERNATIVE_ITEMS = 4
 #: Most versions in one weighing.
 MAX_VERSIONS = 8
+#: How a version's alternatives are weighed: one by one up to the limit and jointly beyond it, or as asked.
+METHODS = ("auto", "one-by-one", "joint")
 
 
 class Prepared:
@@ -43,6 +47,7 @@ class Prepared:
         self.refused: list[dict] = []
         self.range: tuple[float, float] | None = None
         self.notes: list[str] = []
+        self.mode = "versions"
 
 
 def compile_candidate(project, candidate: dict, range_=None) -> CompiledModel:
@@ -77,7 +82,7 @@ def _versions(project, version_ids) -> list[dict]:
     return out
 
 
-def _alternatives(project, version_id) -> list[dict]:
+def _alternatives(project, version_id, method: str) -> tuple[str, list[dict]]:
     version = find_version(project, version_id)
     if version is None:
         raise ModelRefused("unknown-version", f"no interpretation version {version_id!r} in this project", status=404,
@@ -87,24 +92,25 @@ def _alternatives(project, version_id) -> list[dict]:
     if not items:
         raise ModelRefused("no-alternatives", "the version leaves nothing undecided: it has one reading only",
                            status=422, field="version")
+    if method == "joint" or (method == "auto" and len(items) > MAX_ALTERNATIVE_ITEMS):
+        return "joint", families(version, items)
     if len(items) > MAX_ALTERNATIVE_ITEMS:
         raise ModelRefused(
             "too-many-alternatives",
             f"the version leaves {len(items)} items undecided: 2^{len(items)} = {2 ** len(items)} marginal "
-            f"likelihoods is too many to weigh one by one (at most {MAX_ALTERNATIVE_ITEMS} items); decide some "
-            "first, or commit the readings you want to compare as versions and weigh those",
+            f"likelihoods is too many to weigh one by one (at most {MAX_ALTERNATIVE_ITEMS} items); weigh them "
+            "jointly (method \"joint\"), decide some first, or commit the readings you want to compare as "
+            "versions and weigh those",
             status=422, field="version", undecided=[rid for rid, _k in items])
     label = version_label(version)
     out = []
-    for bits in itertools.product((True, False), repeat=len(items)):
-        accepted = sorted(rid for (rid, _k), yes in zip(items, bits) if yes)
-        rejected = sorted(rid for (rid, _k), yes in zip(items, bits) if not yes)
-        words = ", ".join(f"#{rid} {'accepted' if yes else 'not accepted'}" for (rid, _k), yes in zip(items, bits))
-        out.append({"name": f"{label}: {words}", "version": version.pk, "accepted": accepted, "rejected": rejected})
-    return out
+    for accepted, rejected in decision_sets(items):
+        out.append({"name": reading_name(label, items, accepted), "version": version.pk, "accepted": accepted,
+                    "rejected": rejected})
+    return "alternatives", out
 
 
-def prepare(project, *, versions=None, alternatives_of=None) -> Prepared:
+def prepare(project, *, versions=None, alternatives_of=None, method: str = "auto") -> Prepared:
     """Compile every candidate once, check they use the same evidence and put them on one range.
 
     Raises
@@ -113,19 +119,28 @@ def prepare(project, *, versions=None, alternatives_of=None) -> Prepared:
         ``invalid-input`` (400), ``unknown-version`` (404),
         ``no-alternatives``/``too-many-alternatives``/``different-evidence``
         (422), ``no-candidates`` (422) when every alternative is refused, or
-        a version's own refusal.
+        a version's own refusal.  With ``method="joint"`` a candidate is a
+        family of readings (:func:`chronology.weighing.joint.families`).
     """
     if (versions is None) == (alternatives_of is None):
         raise ModelRefused("invalid-input", "give either versions (a list of ids) or version (one id) with "
                            "alternatives: true", status=400, field="versions")
-    specs = _versions(project, versions) if versions is not None else _alternatives(project, alternatives_of)
+    if method not in METHODS:
+        raise ModelRefused("invalid-input", f"method is one of {', '.join(METHODS)}", status=400, field="method")
     out = Prepared()
+    if versions is not None:
+        specs = _versions(project, versions)
+    else:
+        out.mode, specs = _alternatives(project, alternatives_of, method)
     compiled: list[tuple[dict, CompiledModel]] = []
     for spec in specs:
         try:
-            compiled.append((spec, compile_candidate(project, spec)))
+            c = compile_candidate(project, spec)
+            if out.mode == "joint":
+                check_family(project, spec, c)
+            compiled.append((spec, c))
         except ModelRefused as exc:
-            if versions is not None:
+            if versions is not None or exc.code == "not-a-restriction":
                 raise
             out.refused.append({**spec, "code": exc.code, "reason": exc.message})
     if not compiled:

@@ -29,18 +29,25 @@ from projects.models import Role
 
 from .candidates import prepare
 from .evidence_work import ESTIMATE_KIND, WEIGHING_KIND, children_of, finish_if_complete
+from .joint import JOINT_DEFAULTS, JOINT_LIMITS
+from .joint_work import JOINT_KIND
 from .settings_input import whole_number_settings
 
 __all__ = ["WEIGHING_KIND", "ESTIMATE_KIND", "SETTING_LIMITS", "settings_from", "start_weighing", "weighing_view",
-           "cancel_weighing", "recent_weighings"]
+           "cancel_weighing", "recent_weighings", "top_readings", "SHOWN_READINGS"]
 
 #: Accepted settings of a weighing: name -> (least, greatest).
 SETTING_LIMITS = {"stones": (8, 64), "draws": (50, 5000), "thin": (1, 20), "warmup": (0, 5000), "repeats": (2, 16)}
 
 
-def settings_from(data) -> SteppingStoneSettings:
-    """Stepping-stone settings from a request's ``settings`` object; ``ModelRefused`` (400) naming the field."""
-    return SteppingStoneSettings(**whole_number_settings(data, SETTING_LIMITS))
+def settings_from(data) -> tuple[SteppingStoneSettings, dict]:
+    """Stepping-stone settings and the joint runs' settings from a request's ``settings`` object.
+
+    Raises ``ModelRefused`` (400) naming the field.
+    """
+    given = whole_number_settings(data, {**SETTING_LIMITS, **JOINT_LIMITS})
+    joint = {k.removeprefix("joint_"): given.pop(k, JOINT_DEFAULTS[k]) for k in JOINT_LIMITS}
+    return SteppingStoneSettings(**given), joint
 
 
 def _seed(value) -> int:
@@ -51,32 +58,42 @@ def _seed(value) -> int:
     return value
 
 
-def start_weighing(project, actor, *, versions=None, alternatives_of=None, settings=None, seed=None) -> Job:
+def start_weighing(project, actor, *, versions=None, alternatives_of=None, settings=None, seed=None,
+                   method: str = "auto") -> Job:
     """Compile the candidates now (refusing what cannot be weighed) and submit one job per candidate.
+
+    ``method`` says how a version's alternatives are weighed
+    (:data:`chronology.weighing.candidates.METHODS`); in the joint mode a
+    candidate is a family of readings and its job a ``joint-readings`` one.
 
     Returns the weighing's job; its candidates start when the transaction commits.
     """
     from chronology.interpretations.services import log_action, require_role
 
-    from .tasks import estimate_marginal_likelihood
+    from .tasks import estimate_joint_readings, estimate_marginal_likelihood
 
     require_role(project, actor, Role.ANALYST)
-    s = settings_from(settings)
+    s, joint = settings_from(settings)
     entropy = _seed(seed)
-    prepared = prepare(project, versions=versions, alternatives_of=alternatives_of)
+    prepared = prepare(project, versions=versions, alternatives_of=alternatives_of, method=method)
     forced = bool(prepared.notes)
-    params = {"mode": "versions" if versions is not None else "alternatives",
+    is_joint = prepared.mode == "joint"
+    params = {"mode": prepared.mode,
               "candidates": prepared.candidates, "refused": prepared.refused, "range": list(prepared.range),
               "range_forced": forced, "notes": prepared.notes, "settings": s.as_dict(), "seed": entropy,
-              "curves": [dict(c) for c in prepared.models[0].curves]}
+              "curves": [dict(c) for c in prepared.models[0].curves], **({"joint": joint} if is_joint else {})}
     with transaction.atomic():
         parent = Job.objects.create(project=project, kind=WEIGHING_KIND, params=params, created_by=actor.user)
         children = []
         for i, cand in enumerate(prepared.candidates):
-            child = jobs.submit(project, actor.user, ESTIMATE_KIND,
-                                {"weighing": str(parent.pk), "index": i, "candidate": cand,
-                                 "range": list(prepared.range) if forced else None, "settings": s.as_dict(),
-                                 "seed": entropy + 7919 * (i + 1)}, estimate_marginal_likelihood)
+            child_params = {"weighing": str(parent.pk), "index": i, "candidate": cand,
+                            "range": list(prepared.range) if forced else None, "settings": s.as_dict(),
+                            "seed": entropy + 7919 * (i + 1)}
+            if is_joint:
+                child = jobs.submit(project, actor.user, JOINT_KIND, {**child_params, "joint": joint},
+                                    estimate_joint_readings)
+            else:
+                child = jobs.submit(project, actor.user, ESTIMATE_KIND, child_params, estimate_marginal_likelihood)
             children.append(str(child.pk))
         parent.params = {**params, "children": children}
         parent.save(update_fields=["params"])
@@ -128,12 +145,23 @@ def cancel_weighing(job: Job) -> Job:
     return job
 
 
+#: Most readings a page or report lists of one weighing, best first; the API has them all.
+SHOWN_READINGS = 12
+
+
+def top_readings(result: dict) -> tuple[list[dict], int]:
+    """The best :data:`SHOWN_READINGS` candidates of a weighing's result, and how many more it has."""
+    ranked = sorted(result.get("candidates") or [], key=lambda c: -c["posterior_probability"])
+    return ranked[:SHOWN_READINGS], max(len(ranked) - SHOWN_READINGS, 0)
+
+
 def recent_weighings(project, limit: int = 5) -> list[dict]:
     """The project's latest finished weighings, for a results block on a page: best first in each."""
     rows = []
     for job in Job.objects.filter(project=project, kind=WEIGHING_KIND, state=JobState.DONE).order_by("-finished_at",
                                                                                                     "id")[:limit]:
         result = job.result or {}
+        shown, more = top_readings(result)
         rows.append({"id": str(job.pk), "finished_at": job.finished_at, "mode": job.params.get("mode"),
-                     "candidates": sorted(result.get("candidates") or [], key=lambda c: -c["posterior_probability"])})
+                     "candidates": shown, "more": more, "relationships": result.get("relationships") or []})
     return rows

@@ -22,17 +22,13 @@ from chronology.models import Job, JobState
 from chronology.runs.compile import ModelRefused
 
 from .candidates import compile_candidate
+from .job_errors import refused_in_job
 
-__all__ = ["WEIGHING_KIND", "ESTIMATE_KIND", "refused_in_job", "estimate", "finish_if_complete", "children_of",
+__all__ = ["WEIGHING_KIND", "ESTIMATE_KIND", "estimate", "finish_if_complete", "children_of",
            "combine"]
 
 WEIGHING_KIND = "evidence-weighing"
 ESTIMATE_KIND = "marginal-likelihood"
-
-
-def refused_in_job(exc: ModelRefused) -> EngineError:
-    """A refusal met inside a job, as the expected domain error :func:`chronology.jobs.execute` stores."""
-    return EngineError(exc.message, code=exc.code, details=dict(exc.details))
 
 
 def estimate(job: Job, reporter: jobs.Reporter) -> dict:
@@ -78,6 +74,10 @@ def children_of(parent: Job) -> list[Job]:
 
 def combine(job: Job, reporter: jobs.Reporter) -> dict:
     """Bayes factors and posterior probabilities of the candidates whose estimates finished."""
+    if job.params.get("mode") == "joint":
+        from .joint_combine import combine_joint
+
+        return combine_joint(job, children_of(job))
     estimates, rows, failed = {}, [], []
     for child in children_of(job):
         cand = child.params["candidate"]

@@ -18,7 +18,7 @@ from chronology.models import Job
 from chronology.runs.compile import ModelRefused
 from chronology.runs.sources import find_version
 
-from .evidence_work import refused_in_job
+from .job_errors import refused_in_job
 from .variants import compile_variant
 
 __all__ = ["run"]

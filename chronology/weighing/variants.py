@@ -23,12 +23,14 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import itertools
 
 from chronology.engine.errors import EngineError
 from chronology.runs.compile import ARRANGEMENTS, CompiledModel, ModelRefused, build_model, spec_from_content
 from chronology.runs.sources import evidence_at, version_parts
 
-__all__ = ["VARIATION_KEYS", "Decisions", "check_variation", "compile_variant", "record_of", "undecided_items"]
+__all__ = ["VARIATION_KEYS", "Decisions", "check_variation", "compile_variant", "decision_sets", "order_of", "record_of",
+           "undecided_items"]
 
 VARIATION_KEYS = ("label", "curve", "delta_r", "outlier_prior", "range", "arrangement")
 
@@ -99,6 +101,13 @@ def undecided_items(content: dict, relationships) -> list[tuple[int, str]]:
     return sorted(items)
 
 
+def decision_sets(items):
+    """Each of the ``2^k`` ways of deciding ``items`` ((id, kind) pairs): (accepted ids, rejected ids), all accepted first."""
+    for bits in itertools.product((True, False), repeat=len(items)):
+        yield (sorted(rid for (rid, _k), yes in zip(items, bits) if yes),
+               sorted(rid for (rid, _k), yes in zip(items, bits) if not yes))
+
+
 def _decided(content: dict, items: list[tuple[int, str]], decisions: Decisions) -> dict:
     doc = copy.deepcopy(content)
     equalities = {e["relationship"]: e for e in doc.get("equalities") or ()}
@@ -161,6 +170,22 @@ def _load_curve(project):
             raise ModelRefused("unknown-curve", f"no imported curve {name!r}", status=400, field="curve")
         return engine_curve(curve)
     return load
+
+
+def order_of(version, decisions: Decisions):
+    """The record's temporal order under ``version`` with ``decisions``, and the record: (graph, contexts).
+
+    Raises ``ModelRefused`` as the compile would.
+    """
+    from chronology.engine.temporal_graph import compile_order
+
+    _project, _revision, content, contexts, relationships = record_of(version)
+    content = _decided(content, undecided_items(content, relationships), decisions)
+    try:
+        reading = spec_from_content(content, relationships, {c.id for c in contexts})
+        return compile_order(contexts, relationships, reading.policy), contexts
+    except EngineError as exc:
+        raise ModelRefused.from_engine(exc) from exc
 
 
 def compile_variant(version, *, decisions: Decisions | None = None, variation: dict | None = None,

@@ -61,11 +61,11 @@ def test_the_alternatives_of_a_version_are_weighed_one_by_one(readings, client_f
     assert body["state"] == "done" and len(body["result"]["candidates"]) == 2
 
 
-def test_too_many_undecided_items_are_refused_with_the_reason(readings, client_for, project, monkeypatch,
-                                                              django_capture_on_commit_callbacks):
+def test_too_many_undecided_items_to_weigh_one_by_one_are_refused_with_the_reason(
+        readings, client_for, project, monkeypatch, django_capture_on_commit_callbacks):
     monkeypatch.setattr(candidates, "MAX_ALTERNATIVE_ITEMS", 0)
-    response = _post(client_for, project, {"version": readings["sequential"].pk, "alternatives": True},
-                     django_capture_on_commit_callbacks)
+    response = _post(client_for, project, {"version": readings["sequential"].pk, "alternatives": True,
+                                           "method": "one-by-one"}, django_capture_on_commit_callbacks)
     assert response.status_code == 422
     body = response.json()
     assert body["code"] == "too-many-alternatives" and body["errors"][0]["field"] == "version"

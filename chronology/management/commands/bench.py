@@ -25,6 +25,7 @@ SUITES = {
     "sync": "api.benchmarks.sync",
     "coverage": "chronology.benchmarks.coverage",
     "evidence": "chronology.benchmarks.evidence",
+    "readings": "chronology.benchmarks.readings",
     "outputs": "chronology.benchmarks.outputs",
     # The package's own suite lives with it (exchange sits above chronology; named here, imported on demand).
     "exchange": "exchange.benchmark",
