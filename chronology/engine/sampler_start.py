@@ -3,15 +3,27 @@
 A state is built along a random linear extension of the constraint DAG, so
 every constraint holds without rejection: dated events are drawn from their
 likelihoods within their feasible bounds, then repaired by a forward pass.
+
+Interval priors with bounded support (a uniform duration, a lognormal gap
+that must be positive) need a start of finite prior density too: the chains
+would otherwise never leave a state of zero density.  :func:`initial_state`
+moves the boundaries of an interval out of range to the middle of its
+support where their neighbours leave room, and draws a new state when that
+is not enough.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from chronology.engine.errors import ModelError
+from chronology.engine.interval_priors import interval_log_density
 from chronology.engine.sampler_flat import DATED, FlatModel
 
 __all__ = ["initial_state"]
+
+#: fresh starting states tried before a model's interval priors are declared out of reach
+START_ATTEMPTS = 50
 
 
 def random_linear_extension(f: FlatModel, rng: np.random.Generator) -> list[int]:
@@ -53,6 +65,63 @@ def draw_between(f: FlatModel, v: int, lo: float, hi: float, rng: np.random.Gene
 
 
 def initial_state(f: FlatModel, rng: np.random.Generator) -> np.ndarray:
+    """A dispersed valid state of finite prior density (see the module docstring).
+
+    Raises
+    ------
+    ModelError
+        ``prior-out-of-reach`` when no start found satisfies every interval
+        prior's support (e.g. a maximum duration shorter than the evidence
+        and the order allow).
+    """
+    for _ in range(START_ATTEMPTS):
+        x = _ordered_state(f, rng)
+        if not f.interval_earlier.size or _repair_intervals(f, x):
+            return x
+    raise ModelError("no starting state satisfies the interval priors: a duration or gap prior leaves no room "
+                     "for the order and the evidence", code="prior-out-of-reach")
+
+
+def _interval_ok(f: FlatModel, x: np.ndarray, i: int) -> bool:
+    d = x[f.interval_later[i]] - x[f.interval_earlier[i]]
+    return bool(np.isfinite(interval_log_density(d, f.interval_code[i], f.interval_p1[i], f.interval_p2[i])))
+
+
+def _room(f: FlatModel, x: np.ndarray, v: int) -> tuple[float, float]:
+    lo = max([f.earliest[v], f.hard_lo[v]] + [x[p] for p in f.pred_idx[f.pred_ptr[v]:f.pred_ptr[v + 1]]])
+    hi = min([f.latest[v], f.hard_hi[v]] + [x[s] for s in f.succ_idx[f.succ_ptr[v]:f.succ_ptr[v + 1]]])
+    return lo, hi
+
+
+def _target(f: FlatModel, i: int) -> float:
+    code, p1, p2 = f.interval_code[i], f.interval_p1[i], f.interval_p2[i]
+    if code == 0:
+        return 0.5 * (p1 + p2)
+    return float(p1)  # the mean of a normal, the median of a lognormal
+
+
+def _repair_intervals(f: FlatModel, x: np.ndarray, passes: int = 4) -> bool:
+    """Move boundaries of intervals outside their prior's support toward its middle, within their order bounds.
+
+    Only the later event moves first (then the earlier), each inside the room
+    its placed neighbours leave, so every constraint still holds.
+    """
+    for _ in range(passes):
+        bad = [i for i in range(f.interval_earlier.size) if not _interval_ok(f, x, i)]
+        if not bad:
+            return True
+        for i in bad:
+            a, b = f.interval_earlier[i], f.interval_later[i]
+            want = _target(f, i)
+            lo, hi = _room(f, x, b)
+            x[b] = min(max(x[a] + want, lo), hi)
+            if not _interval_ok(f, x, i):
+                lo, hi = _room(f, x, a)
+                x[a] = min(max(x[b] - want, lo), hi)
+    return all(_interval_ok(f, x, i) for i in range(f.interval_earlier.size))
+
+
+def _ordered_state(f: FlatModel, rng: np.random.Generator) -> np.ndarray:
     """A dispersed valid state along a random linear extension of the constraint DAG.
 
     Dated events are first drawn from their likelihoods within their feasible
