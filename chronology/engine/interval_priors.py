@@ -50,6 +50,10 @@ DISTRIBUTIONS: dict[str, tuple[str, str]] = {
 INTERVAL_KINDS = ("duration", "gap")
 
 _CODES = {name: i for i, name in enumerate(DISTRIBUTIONS)}
+#: Kernel code of the softened uniform the starting state is found with (not a prior a version can set):
+#: flat on ``[min, max]`` with normal tails of scale ``SOFT_TAIL`` times the width outside.
+SOFT_UNIFORM = 3
+SOFT_TAIL = 0.05
 
 
 def distribution_code(name: str) -> int:
@@ -112,6 +116,11 @@ def interval_log_density(d, code, p1, p2):
         if d < p1 or d > p2:
             return -np.inf
         return -np.log(p2 - p1)
+    if code == 3:
+        w = p2 - p1
+        out = p1 - d if d < p1 else (d - p2 if d > p2 else 0.0)
+        z = out / (0.05 * w)  # SOFT_TAIL
+        return -np.log(w) - 0.5 * z * z
     if code == 1:
         z = (d - p1) / p2
         return -0.5 * z * z - np.log(p2) - 0.9189385332046727
