@@ -58,11 +58,19 @@ the product gives the duration the density ``f(d) 1[0 < d < R] / F`` with
 ``F = ∫_0^R f``: exactly ``f`` truncated to ``[0, R]``, with the beginning
 still uniform on the room left and the members uniform inside.  In a chain
 the span-uniform prior draws the total span ``S ~ U(0, R)`` and splits it
-exchangeably (Dirichlet(1, ..., 1) over the phases' lengths and gaps); the
-factors reweight that split, e.g. a duration prior centred on long phases
-moves mass from the gaps to the phases, and the total span is no longer
-uniform.  Marginally nothing is exact in a chain except through the
-product; a prior-only run shows what the combination implies.  The
+exchangeably (Dirichlet(1, ..., 1) over the phases' lengths and gaps).
+Integrating out the members and the first boundary (its room ``R - S``
+cancels the factor ``(R - S)^-1``), the chain's lengths and gaps
+``l_1 .. l_(k-1)`` have the density ``S^-(k-2)`` on ``{l_i >= 0, S < R}``,
+which is what makes ``S`` uniform; the factors tilt it to
+
+    S^-(k-2) prod_i f_i(l_i)    (f_i = 1 for a length without a prior),
+
+so the lengths are *not* marginally ``f_i`` in a chain: the factor
+``S^-(k-2)`` still favours short chains (for three phases in sequence,
+``S^-4``), and a prior-only run shows what the combination implies.  Lengths
+drawn independently from ``f_i``, as a simulation might, would need that
+factor removed as well (measured in ``docs/statistics.md``).  The
 densities are untempered in a power posterior (they are prior), so the
 stepping-stone estimate of the marginal likelihood is the one under the
 normalised product.  With ``prior="uniform"`` the factors multiply the
