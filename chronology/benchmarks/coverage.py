@@ -25,7 +25,13 @@ Variants separate the causes of a shortfall:
   simulation-based calibration checks those);
 * ``set-range``: the realistic sites with the overall range set by the user
   to the true site extent padded by 200 years each side (a user who knows
-  the period), which narrows ``R``.
+  the period), which narrows ``R``;
+* ``duration-prior``: the realistic sites (the very same ones, seeded as
+  ``realistic``) fitted with the duration prior that matches how they are
+  simulated, ``uniform 50-250`` years on every phase
+  (:mod:`chronology.engine.interval_priors`);
+* ``duration-gap-prior``: the same, with the gap prior ``uniform 0-100``
+  years between the phases as well.
 """
 
 from __future__ import annotations
@@ -37,7 +43,7 @@ from scipy import stats
 
 from chronology.engine.calibration import curve_on_grid, log_likelihood
 from chronology.engine.grid import CalendarGrid
-from chronology.engine.model_compiler import EvidenceInput, PhaseInput, compile_model
+from chronology.engine.model_compiler import EvidenceInput, IntervalPriorInput, PhaseInput, compile_model
 from chronology.engine.posterior import summarise
 from chronology.engine.sampler import run_chains, warm_up
 from chronology.engine.synthetic_curve import synthetic_curve
@@ -45,7 +51,10 @@ from chronology.runs.compile_range import MIN_RANGE_PAD
 
 __all__ = ["VARIANTS", "QUICK", "simulate_site", "derived_range", "run"]
 
-VARIANTS = ("realistic", "exchangeable", "set-range")
+VARIANTS = ("realistic", "exchangeable", "set-range", "duration-prior", "duration-gap-prior")
+#: the duration and gap priors that match the simulated sites (years)
+SIMULATED_DURATION = {"min": 50.0, "max": 250.0}
+SIMULATED_GAP = {"min": 0.0, "max": 100.0}
 QUICK = {"sites": 4, "iterations": 1500, "warmup": 500}
 
 _SUPPORT_DROP = 18.0  # log-likelihood drop of 6 sigma, as the service derives the range
@@ -91,7 +100,16 @@ def derived_range(ages, sigmas, curve) -> tuple[float, float]:
     return float(np.floor(lo - pad)), float(np.ceil(hi + pad))
 
 
-def _model(ages, sigmas, curve, lo: float, hi: float):
+def _interval_priors(name: str) -> list[IntervalPriorInput]:
+    out = []
+    if name in ("duration-prior", "duration-gap-prior"):
+        out += [IntervalPriorInput(f"P{j + 1}", "duration", "uniform", SIMULATED_DURATION) for j in range(3)]
+    if name == "duration-gap-prior":
+        out += [IntervalPriorInput(f"P{j + 1}", "gap", "uniform", SIMULATED_GAP) for j in range(2)]
+    return out
+
+
+def _model(ages, sigmas, curve, lo: float, hi: float, interval_priors=()):
     grid = CalendarGrid.spanning(lo, hi, 1.0)
     on = curve_on_grid(curve, grid)
     phases, evidence = [], []
@@ -102,7 +120,8 @@ def _model(ages, sigmas, curve, lo: float, hi: float):
             members.append(ctx)
             evidence.append(EvidenceInput(f"SIM-{j}{i:02d}", ctx, log_likelihood(y, s, on)))
         phases.append(PhaseInput(f"P{j + 1}", tuple(members), "sequential" if j < 2 else None))
-    return compile_model(grid, phases=phases, order=[], evidence=evidence, range_lo=grid.start, range_hi=grid.end)
+    return compile_model(grid, phases=phases, order=[], evidence=evidence, range_lo=grid.start, range_hi=grid.end,
+                         interval_priors=interval_priors)
 
 
 def _covers(ranges, truth: float, half_step: float) -> bool:
@@ -116,7 +135,9 @@ def _proportion(hits: int, n: int) -> dict:
 
 
 def _variant(name: str, sites: int, entropy: int, curve, iterations: int, warmup: int, chains: int) -> dict:
-    root = np.random.SeedSequence([entropy, VARIANTS.index(name)])
+    # the prior variants refit the realistic sites themselves, so the comparison is paired
+    sites_of = "realistic" if name.startswith("duration") else name
+    root = np.random.SeedSequence([entropy, VARIANTS.index(sites_of)])
     boundary_names = ["beginning:P1", "close:P1", "beginning:P2", "close:P2", "beginning:P3", "close:P3"]
     hpd_hits = {k: 0 for k in boundary_names}
     central_hits = {k: 0 for k in boundary_names}
@@ -134,7 +155,7 @@ def _variant(name: str, sites: int, entropy: int, curve, iterations: int, warmup
             lo, hi = float(np.floor(lo)), float(np.ceil(hi))
         else:
             lo, hi = derived_range(ages, site["sigmas"], curve)
-        model = _model(ages, site["sigmas"], curve, lo, hi)
+        model = _model(ages, site["sigmas"], curve, lo, hi, _interval_priors(name))
         res = run_chains(model, entropy=int(chain_seed.generate_state(1)[0]), n_chains=chains,
                          iterations=iterations, warmup=warmup, workers=min(chains, 2))
         dates = np.stack([r.draws for r in res])

@@ -22,7 +22,11 @@ The prior draws follow the generative constructions of
 * members ``iid U(beginning, close)`` of their phase;
 * a terminus is part of the model's prior (a hard bound on its event), so
   whole draws are rejected until every terminus holds at its exact year, as
-  the model holds it (``Evidence.bound``; exact truncation).
+  the model holds it (``Evidence.bound``; exact truncation);
+* duration and gap priors multiply the span-uniform prior by ``prod f(d)``:
+  a draw of the boundaries is kept with probability ``prod f(d) / prod
+  max f`` (each maximum over lengths in ``[0, R]``), rejection sampling
+  from the span-uniform draws, which is exact for the product.
 
 Radiocarbon ages are ``N(mu(t), sigma^2 + sigma_c(t)^2)`` at the grid cell of
 the true date (the model's likelihood is constant inside a cell); under the
@@ -46,9 +50,16 @@ from chronology.engine.calibration import CurveOnGrid, curve_on_grid, log_likeli
 from chronology.engine.curves import Curve
 from chronology.engine.evidence_likelihoods import terminus_ante_quem, terminus_post_quem
 from chronology.engine.grid import CalendarGrid
+from chronology.engine.interval_priors import (
+    DISTRIBUTIONS,
+    distribution_code,
+    interval_log_density,
+    log_density_ceiling,
+)
 from chronology.engine.model import Model
 from chronology.engine.model_compiler import (
     EvidenceInput,
+    IntervalPriorInput,
     PhaseInput,
     beginning_key,
     changeover_key,
@@ -92,7 +103,10 @@ class SiteDesign:
     ``arrangement`` links every phase with the next (``sequential``,
     ``contiguous`` or ``overlapping`` with ordered beginnings).  Every member
     has one radiocarbon determination of error ``sigma``; ``outlier_prior``
-    > 0 puts each under the outlier model.
+    > 0 puts each under the outlier model.  ``durations`` gives per phase
+    ``(distribution, p1, p2)`` or ``None`` (e.g. ``("uniform", 50, 250)``);
+    ``gaps`` the same for the gap after each phase but the last (sequential
+    only).
     """
 
     phase_sizes: tuple[int, ...]
@@ -103,6 +117,30 @@ class SiteDesign:
     sigma: float = 25.0
     outlier_prior: float = 0.0
     termini: tuple[Terminus, ...] = ()
+    durations: tuple = ()
+    gaps: tuple = ()
+
+    def interval_priors(self) -> list[IntervalPriorInput]:
+        """The duration and gap priors as the compiler takes them."""
+        out = []
+        for kind, priors in (("duration", self.durations), ("gap", self.gaps)):
+            for key, prior in zip(self.phase_keys(), priors):
+                if prior is not None:
+                    name, a, b = prior
+                    out.append(IntervalPriorInput(key, kind, name, dict(zip(DISTRIBUTIONS[name], (a, b)))))
+        return out
+
+    def interval_lengths(self, b: np.ndarray) -> list[tuple[tuple, float]]:
+        """(prior, length) of every duration and gap prior at boundaries ``b`` (in :meth:`boundary_keys` order)."""
+        out = []
+        for j, prior in enumerate(self.durations):
+            if prior is not None:
+                a, z = (b[j], b[j + 1]) if self.arrangement == "contiguous" else (b[2 * j], b[2 * j + 1])
+                out.append((prior, float(z - a)))
+        for j, prior in enumerate(self.gaps):
+            if prior is not None:
+                out.append((prior, float(b[2 * j + 2] - b[2 * j + 1])))
+        return out
 
     @property
     def width(self) -> float:
@@ -186,15 +224,26 @@ def _termini_hold(design: SiteDesign, truth: dict) -> bool:
     return True
 
 
+def _intervals_accept(design: SiteDesign, b: np.ndarray, rng: np.random.Generator) -> bool:
+    """Keep boundaries ``b`` with probability ``prod f(d) / prod max f`` (rejection from the span-uniform draws)."""
+    log_w = 0.0
+    for (name, p1, p2), d in design.interval_lengths(b):
+        code = distribution_code(name)
+        log_w += interval_log_density(d, code, float(p1), float(p2)) - log_density_ceiling(code, p1, p2, design.width)
+    return bool(np.log(rng.uniform()) < log_w)
+
+
 def draw_from_prior(design: SiteDesign, rng: np.random.Generator) -> dict[str, float]:
     """One draw of every boundary and member from the model's prior (see the module notes)."""
     m = len(design.phase_sizes)
     keys = design.boundary_keys()
-    for _ in range(100_000):
+    for _ in range(1_000_000):
         if design.arrangement == "overlapping":
             b = _overlapping_boundaries(m, design.range_lo, design.width, rng)
         else:
             b = _chain_boundaries(len(keys), design.range_lo, design.width, rng)
+        if (design.durations or design.gaps) and not _intervals_accept(design, b, rng):
+            continue
         truth = dict(zip(keys, b.tolist()))
         for j, n in enumerate(design.phase_sizes):
             if design.arrangement == "contiguous":
@@ -205,7 +254,7 @@ def draw_from_prior(design: SiteDesign, rng: np.random.Generator) -> dict[str, f
                 truth[f"ctx:{design.member_key(j, i)}"] = float(t)
         if _termini_hold(design, {k[4:]: v for k, v in truth.items() if k.startswith("ctx:")}):
             return truth
-    raise RuntimeError("the termini leave almost no prior mass; choose other years")
+    raise RuntimeError("the termini or the interval priors leave almost no prior mass; choose others")
 
 
 # ---------------------------------------------------------------------------
@@ -248,7 +297,8 @@ def design_model(design: SiteDesign, ages: list[tuple[str, float, bool]], curve:
     if design.arrangement == "overlapping":
         order = tuple((beginning_key(a), beginning_key(b), False) for a, b in zip(keys, keys[1:]))
     return compile_model(grid, phases=phases, order=[], evidence=evidence, range_lo=design.range_lo,
-                         range_hi=design.range_hi, boundary_order=order)
+                         range_hi=design.range_hi, boundary_order=order,
+                         interval_priors=design.interval_priors())
 
 
 # ---------------------------------------------------------------------------

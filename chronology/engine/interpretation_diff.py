@@ -24,6 +24,7 @@ from __future__ import annotations
 import json
 from typing import Mapping
 
+from chronology.engine.interval_priors import DISTRIBUTIONS, describe
 from chronology.engine.legacy_names import read_content
 
 __all__ = ["diff_interpretations", "diff_text", "is_empty_diff"]
@@ -51,7 +52,7 @@ def _diff_phases(old: dict, new: dict) -> dict:
     by_b = {p["key"]: p for p in b}
     added = [{"key": p["key"], "name": p.get("name", ""), "position": i} for i, p in enumerate(b) if p["key"] not in by_a]
     removed = [{"key": p["key"], "name": p.get("name", ""), "position": i} for i, p in enumerate(a) if p["key"] not in by_b]
-    renamed, regrouped, arrangement = [], [], []
+    renamed, regrouped, arrangement, durations = [], [], [], []
     for p in b:
         q = by_a.get(p["key"])
         if q is None:
@@ -62,6 +63,8 @@ def _diff_phases(old: dict, new: dict) -> dict:
             regrouped.append({"key": p["key"], "from": q.get("group"), "to": p.get("group")})
         if (q.get("to_next") or None) != (p.get("to_next") or None):
             arrangement.append({"key": p["key"], "from": q.get("to_next"), "to": p.get("to_next")})
+        if q.get("duration") != p.get("duration"):
+            durations.append({"key": p["key"], "from": q.get("duration"), "to": p.get("duration")})
     common_a = [p["key"] for p in a if p["key"] in by_b]
     common_b = [p["key"] for p in b if p["key"] in by_a]
     reordered = {"from": common_a, "to": common_b} if common_a != common_b else None
@@ -71,6 +74,7 @@ def _diff_phases(old: dict, new: dict) -> dict:
         "renamed": renamed,
         "regrouped": regrouped,
         "arrangement_changed": arrangement,
+        "duration_prior_changed": durations,
         "reordered": reordered,
     }
 
@@ -255,7 +259,16 @@ def _arrangement(value) -> str:
     text = value.get("arrangement", "?")
     if value.get("min_gap") is not None:
         text += f", gap at least {value['min_gap']} years"
+    if value.get("gap"):
+        text += f", gap prior {_interval_text(value['gap'])}"
     return text
+
+
+def _interval_text(value) -> str:
+    if not value:
+        return "none"
+    names = DISTRIBUTIONS.get(value.get("distribution"), ())
+    return describe(value["distribution"], *(value.get(n) for n in names)) if len(names) == 2 else str(value)
 
 
 def _event(labels: Mapping, names: Mapping, ref: str) -> str:
@@ -320,6 +333,9 @@ def diff_text(diff: Mapping, *, labels: Mapping | None = None, relationships: Ma
         lines.append(f"Phase {_phase(names, p['key'])} group: {p['from'] or 'none'} → {p['to'] or 'none'}")
     for p in ph["arrangement_changed"]:
         lines.append(f"Phase {_phase(names, p['key'])} to the next: {_arrangement(p['from'])} → {_arrangement(p['to'])}")
+    for p in ph["duration_prior_changed"]:
+        lines.append(f"Phase {_phase(names, p['key'])} duration prior: {_interval_text(p['from'])} → "
+                     f"{_interval_text(p['to'])}")
     if ph["reordered"]:
         lines.append(f"Phases reordered: {', '.join(ph['reordered']['from'])} → {', '.join(ph['reordered']['to'])}")
     cx = diff["contexts"]

@@ -4,7 +4,8 @@ A :class:`Model` is what the sampler consumes and what a model run archives:
 the calendar grid, the events (dated, undated and boundary parameters) with
 their evidence as log-likelihood arrays on the grid, the order constraints
 between events, the phases with their arrangement, the overall range
-``L..U`` and the questions to answer from the draws.
+``L..U``, any informative priors on the length of a phase or of the gap
+after it (:class:`IntervalPrior`) and the questions to answer from the draws.
 
 Dates are astronomical years (1 BC = 0) increasing toward the present.  Every
 grid value is the middle of its cell: cell ``i`` covers
@@ -28,6 +29,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from chronology.engine.grid import CalendarGrid
+from chronology.engine.interval_priors import DISTRIBUTIONS, INTERVAL_KINDS
 from chronology.engine.legacy_names import question_kind
 
 __all__ = [
@@ -42,6 +44,7 @@ __all__ = [
     "Event",
     "Constraint",
     "Phase",
+    "IntervalPrior",
     "Question",
     "Model",
 ]
@@ -139,6 +142,22 @@ MODEL_JSON_SCHEMA: dict = {
                     "end": {"type": "string"},
                     "members": {"type": "array", "items": {"type": "string"}},
                     "arrangement_next": {"enum": list(ARRANGEMENTS) + [None]},
+                },
+            },
+        },
+        "interval_priors": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["kind", "phase", "earlier", "later", "distribution", "parameters"],
+                "additionalProperties": False,
+                "properties": {
+                    "kind": {"enum": list(INTERVAL_KINDS)},
+                    "phase": {"type": "string"},
+                    "earlier": {"type": "string"},
+                    "later": {"type": "string"},
+                    "distribution": {"enum": list(DISTRIBUTIONS)},
+                    "parameters": {"type": "object", "additionalProperties": {"type": "number"}},
                 },
             },
         },
@@ -313,6 +332,38 @@ class Phase:
 
 
 @dataclass(frozen=True)
+class IntervalPrior:
+    """An informative prior on ``later - earlier``, the length between two events.
+
+    ``kind`` is ``duration`` (a phase's beginning to its close) or ``gap``
+    (its close to the next phase's beginning); ``phase`` names the phase;
+    ``parameters`` are the family's two parameters in the order of
+    :data:`~chronology.engine.interval_priors.DISTRIBUTIONS` (e.g. ``(min,
+    max)`` for the uniform).  The density multiplies the boundary prior
+    (:mod:`chronology.engine.priors`).
+    """
+
+    kind: str
+    phase: str
+    earlier: str
+    later: str
+    distribution: str
+    parameters: tuple[float, float]
+
+    def as_dict(self) -> dict:
+        names = DISTRIBUTIONS[self.distribution]
+        return {"kind": self.kind, "phase": self.phase, "earlier": self.earlier, "later": self.later,
+                "distribution": self.distribution,
+                "parameters": {n: float(v) for n, v in zip(names, self.parameters)}}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "IntervalPrior":
+        names = DISTRIBUTIONS[d["distribution"]]
+        return cls(d["kind"], d["phase"], d["earlier"], d["later"], d["distribution"],
+                   tuple(float(d["parameters"][n]) for n in names))
+
+
+@dataclass(frozen=True)
 class Question:
     """A derived quantity: ``duration`` of phase ``a``, ``gap`` ``b - a``, or ``precedence`` P(a before b)."""
 
@@ -335,6 +386,7 @@ class Model:
     questions: tuple[Question, ...] = ()
     prior: str = "span-uniform"
     excluded_evidence: tuple[str, ...] = field(default=())
+    interval_priors: tuple[IntervalPrior, ...] = ()
 
     # --- lookups -------------------------------------------------------
     @property
@@ -360,7 +412,7 @@ class Model:
 
     # --- serialisation -------------------------------------------------
     def as_dict(self) -> dict:
-        return {
+        out = {
             "schema_version": MODEL_SCHEMA_VERSION,
             "grid": {"start": float(self.grid.start), "step": float(self.grid.step), "n": int(self.grid.n)},
             "range": {"lo": float(self.range_lo), "hi": float(self.range_hi)},
@@ -381,6 +433,10 @@ class Model:
             ],
             "questions": [{"key": q.key, "kind": q.kind, "a": q.a, "b": q.b} for q in self.questions],
         }
+        if self.interval_priors:
+            # only when set, so models without them keep their hashes
+            out["interval_priors"] = [p.as_dict() for p in self.interval_priors]
+        return out
 
     def to_json(self) -> str:
         """Canonical JSON text (sorted keys, compact separators)."""
@@ -405,6 +461,7 @@ class Model:
             questions=tuple(Question(q["key"], question_kind(q["kind"]), q["a"], q["b"]) for q in d["questions"]),
             prior=d["prior"],
             excluded_evidence=tuple(d.get("excluded_evidence", ())),
+            interval_priors=tuple(IntervalPrior.from_dict(p) for p in d.get("interval_priors", ())),
         )
 
     @classmethod

@@ -35,6 +35,7 @@ import numpy as np
 
 from chronology.engine.errors import ModelError
 from chronology.engine.grid import CalendarGrid
+from chronology.engine.interval_priors import INTERVAL_KINDS, check_parameters
 from chronology.engine.model import (
     ARRANGEMENTS,
     PRIORS,
@@ -42,6 +43,7 @@ from chronology.engine.model import (
     Constraint,
     Event,
     Evidence,
+    IntervalPrior,
     Model,
     Phase,
     Question,
@@ -52,6 +54,7 @@ __all__ = [
     "PhaseInput",
     "EvidenceInput",
     "QuestionInput",
+    "IntervalPriorInput",
     "context_key",
     "beginning_key",
     "close_key",
@@ -102,6 +105,21 @@ class QuestionInput:
     key: str | None = None
 
 
+@dataclass(frozen=True)
+class IntervalPriorInput:
+    """A prior density on the ``duration`` of phase ``phase`` or on the ``gap`` after it.
+
+    ``parameters`` by name, e.g. ``{"min": 50, "max": 250}`` (see
+    :data:`chronology.engine.interval_priors.DISTRIBUTIONS`).  A gap prior
+    needs the phase to be ``sequential`` with the next one.
+    """
+
+    phase: str
+    kind: str
+    distribution: str
+    parameters: dict
+
+
 def context_key(ctx: Hashable) -> str:
     """The event key of context ``ctx``."""
     return f"ctx:{ctx}"
@@ -149,6 +167,7 @@ def compile_model(
     prior: str = "span-uniform",
     boundary_order: Sequence[tuple[str, str, bool]] = (),
     prior_only: bool = False,
+    interval_priors: Sequence[IntervalPriorInput] = (),
 ) -> Model:
     """Compile plain inputs into a :class:`Model`.
 
@@ -179,6 +198,9 @@ def compile_model(
         (``("beginning:P1", "beginning:P2", False)``).
     prior_only : bool
         Drop every likelihood (a prior-only run); ``no-evidence`` is not raised.
+    interval_priors : sequence of IntervalPriorInput
+        Prior densities on phase durations and on gaps to the next phase,
+        multiplying the boundary prior (:mod:`chronology.engine.priors`).
 
     Returns
     -------
@@ -293,6 +315,7 @@ def compile_model(
             _fail("invalid-input", f"unknown event in asserted order {a} -> {b}")
         constraints.append(Constraint(a, b, bool(strict)))
 
+    intervals = _compile_intervals(interval_priors, phases, starts, ends)
     compiled_questions = tuple(_compile_question(q, keys, set(phase_keys), i) for i, q in enumerate(questions))
     model = Model(
         grid=grid,
@@ -308,9 +331,38 @@ def compile_model(
         questions=compiled_questions,
         prior=prior,
         excluded_evidence=tuple(excluded),
+        interval_priors=intervals,
     )
     feasible_bounds(model)  # raises on a cycle or an empty support
     return model
+
+
+def _compile_intervals(inputs, phases, starts: dict, ends: dict) -> tuple[IntervalPrior, ...]:
+    position = {p.key: j for j, p in enumerate(phases)}
+    out, seen = [], set()
+    for ip in inputs:
+        if ip.phase not in position:
+            _fail("invalid-input", f"interval prior on unknown phase {ip.phase!r}", phase=str(ip.phase))
+        if ip.kind not in INTERVAL_KINDS:
+            _fail("invalid-input", f"unknown interval kind {ip.kind!r}", phase=ip.phase)
+        if (ip.phase, ip.kind) in seen:
+            _fail("invalid-input", f"phase {ip.phase} has two {ip.kind} priors", phase=ip.phase)
+        seen.add((ip.phase, ip.kind))
+        try:
+            params = check_parameters(ip.distribution, ip.parameters)
+        except ModelError as exc:
+            raise ModelError(exc.message, code=exc.code, details={"phase": ip.phase, "kind": ip.kind,
+                                                                   **exc.details}) from exc
+        j = position[ip.phase]
+        if ip.kind == "duration":
+            earlier, later = starts[ip.phase], ends[ip.phase]
+        else:
+            if j + 1 >= len(phases) or phases[j].arrangement_next != "sequential":
+                _fail("invalid-input", "a gap prior needs a sequential arrangement with the next phase",
+                      phase=ip.phase)
+            earlier, later = ends[ip.phase], starts[phases[j + 1].key]
+        out.append(IntervalPrior(ip.kind, ip.phase, earlier, later, ip.distribution, params))
+    return tuple(out)
 
 
 def _dedupe(constraints):

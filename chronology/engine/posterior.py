@@ -22,6 +22,7 @@ import numpy as np
 from chronology.engine.calendar_scales import format_range, format_year, to_cal_bp
 from chronology.engine.diagnostics import ConvergenceReport, mcse_probability
 from chronology.engine.hpd import HPDRange, hpd_regions
+from chronology.engine.interval_priors import describe
 from chronology.engine.model import Model
 from chronology.engine.sampler import SAMPLER_METHOD
 
@@ -47,6 +48,19 @@ _PRIOR_TEXT = {
     "span-uniform": "uniform-span boundary prior (Nicholls & Jones 2001) within the overall range",
     "uniform": "uniform order prior (Buck, Litton & Smith 1992) within the overall range",
 }
+
+
+def _prior_text(model: Model) -> str:
+    """The boundary prior in words, with any duration and gap priors that multiply it."""
+    text = _PRIOR_TEXT[model.prior]
+    if not model.interval_priors:
+        return text
+    parts = []
+    for p in model.interval_priors:
+        where = f"duration of {model.phase(p.phase).label}" if p.kind == "duration" else \
+            f"gap after {model.phase(p.phase).label}"
+        parts.append(f"{where} {describe(p.distribution, *p.parameters)}")
+    return f"{text}, times the priors on the {'; '.join(parts)}"
 
 
 @dataclass(frozen=True, eq=False)
@@ -289,7 +303,7 @@ def summarise(
     if diagnostics is not None:
         methods += (diagnostics.method,)
     return PosteriorSummary(
-        run_id=run_id, curves=tuple(curves), prior=model.prior, prior_text=_PRIOR_TEXT[model.prior],
+        run_id=run_id, curves=tuple(curves), prior=model.prior, prior_text=_prior_text(model),
         methods=methods + tuple(extra_methods), caution=CAUTION, events=tuple(events),
         questions=tuple(questions), outliers=tuple(outl), n_draws=n,
         converged=None if diagnostics is None else diagnostics.converged,

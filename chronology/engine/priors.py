@@ -41,6 +41,40 @@ should always be offered.
 With ``prior="uniform"`` the boundaries carry no factor at all: the plain
 order prior of Buck, Litton & Smith (1992), which lengthens phases (§4.2 of
 our domain primer).
+
+Interval priors (a phase's duration, the gap after it).  A version may give
+a density ``f_p`` for the duration ``d_p = beta_p - alpha_p`` of some phases
+(and ``g_q`` for the gap from a phase's close to the next beginning in a
+sequence; :mod:`chronology.engine.interval_priors`).  The prior becomes
+
+    pi(alpha, beta, theta)  ∝  pi_SU(alpha, beta, theta) prod_p f_p(d_p) prod_q g_q(gap_q),
+
+the span-uniform prior tilted by the densities (an informative prior on
+phase parameters in the sense of Buck, Cavanagh & Litton 1996).  What this
+does follows from the construction above.  For a lone phase (a chain of one
+phase, or one phase of an overlapping group) the span-uniform prior makes
+the span uniform on ``[0, R]`` and independent of where the phase sits, so
+the product gives the duration the density ``f(d) 1[0 < d < R] / F`` with
+``F = ∫_0^R f``: exactly ``f`` truncated to ``[0, R]``, with the beginning
+still uniform on the room left and the members uniform inside.  In a chain
+the span-uniform prior draws the total span ``S ~ U(0, R)`` and splits it
+exchangeably (Dirichlet(1, ..., 1) over the phases' lengths and gaps).
+Integrating out the members and the first boundary (its room ``R - S``
+cancels the factor ``(R - S)^-1``), the chain's lengths and gaps
+``l_1 .. l_(k-1)`` have the density ``S^-(k-2)`` on ``{l_i >= 0, S < R}``,
+which is what makes ``S`` uniform; the factors tilt it to
+
+    S^-(k-2) prod_i f_i(l_i)    (f_i = 1 for a length without a prior),
+
+so the lengths are *not* marginally ``f_i`` in a chain: the factor
+``S^-(k-2)`` still favours short chains (for three phases in sequence,
+``S^-4``), and a prior-only run shows what the combination implies.  Lengths
+drawn independently from ``f_i``, as a simulation might, would need that
+factor removed as well (measured in ``docs/statistics.md``).  The
+densities are untempered in a power posterior (they are prior), so the
+stepping-stone estimate of the marginal likelihood is the one under the
+normalised product.  With ``prior="uniform"`` the factors multiply the
+plain order prior instead.
 """
 
 from __future__ import annotations
@@ -49,6 +83,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from chronology.engine.interval_priors import distribution_code, interval_log_density
 from chronology.engine.model import Model
 from chronology.engine.ordered_volume import log_ordered_volume
 
@@ -57,6 +92,7 @@ __all__ = [
     "prior_structure",
     "log_prior",
     "group_log_volume",
+    "log_interval_factors",
     "log_one_phase_prior",
     "sample_one_phase_prior",
 ]
@@ -71,8 +107,13 @@ class PriorStructure:
     per chain of linked phases, the indices of its first and last boundary and
     its number of distinct boundaries.  ``group_ptr``/``group_blocks``: per
     group of chains with ordered beginnings, its chains in order (CSR);
-    ``block_group`` the group of each chain.  ``active`` is False for the
-    uniform prior.
+    ``block_group`` the group of each chain.  ``interval_earlier``/
+    ``interval_later``/``interval_code``/``interval_p1``/``interval_p2``: per
+    interval prior, the two events, the family's code and its parameters
+    (:mod:`chronology.engine.interval_priors`).  ``active`` is False when the
+    boundaries carry no factor (the uniform prior without interval priors);
+    with the uniform prior the span-uniform arrays are empty (no chains, no
+    member counts) so only the interval factors remain.
     """
 
     active: bool
@@ -86,6 +127,11 @@ class PriorStructure:
     block_group: np.ndarray
     group_ptr: np.ndarray
     group_blocks: np.ndarray
+    interval_earlier: np.ndarray
+    interval_later: np.ndarray
+    interval_code: np.ndarray
+    interval_p1: np.ndarray
+    interval_p2: np.ndarray
 
 
 def prior_structure(model: Model) -> PriorStructure:
@@ -145,8 +191,13 @@ def prior_structure(model: Model) -> PriorStructure:
             block_group[b] = g
         gptr.append(gptr[-1] + len(members))
     as_int = lambda v: np.asarray(v, dtype=np.int64)  # noqa: E731
+    if model.prior != "span-uniform":
+        # the plain order prior: no span factors, only interval priors (if any)
+        pn = [0] * len(pn)
+        bf, bl, bk, block_group, gptr, groups = [], [], [], [], [0], []
+    ivs = model.interval_priors
     return PriorStructure(
-        active=(model.prior == "span-uniform"),
+        active=(model.prior == "span-uniform" or bool(ivs)),
         range_width=float(model.range_hi - model.range_lo),
         phase_start=as_int(ps),
         phase_end=as_int(pe),
@@ -157,6 +208,11 @@ def prior_structure(model: Model) -> PriorStructure:
         block_group=as_int(block_group),
         group_ptr=as_int(gptr),
         group_blocks=as_int([b for g in groups for b in g]),
+        interval_earlier=as_int([index[p.earlier] for p in ivs]),
+        interval_later=as_int([index[p.later] for p in ivs]),
+        interval_code=as_int([distribution_code(p.distribution) for p in ivs]),
+        interval_p1=np.array([p.parameters[0] for p in ivs], dtype=float),
+        interval_p2=np.array([p.parameters[1] for p in ivs], dtype=float),
     )
 
 
@@ -172,7 +228,8 @@ def log_prior(structure: PriorStructure, x: np.ndarray) -> float:
     Returns
     -------
     float
-        ``-inf`` where a span is not positive or a chain spans the whole range.
+        ``-inf`` where a span is not positive, a chain spans the whole range
+        or an interval lies outside its prior's support.
     """
     if not structure.active:
         return 0.0
@@ -191,6 +248,16 @@ def log_prior(structure: PriorStructure, x: np.ndarray) -> float:
         total -= (k - 2) * np.log(S)
     for g in range(len(structure.group_ptr) - 1):
         total -= group_log_volume(structure, g, x)
+    total += log_interval_factors(structure, x)
+    return float(total)
+
+
+def log_interval_factors(structure: PriorStructure, x: np.ndarray) -> float:
+    """Sum of the interval priors' log densities at state ``x`` (0 without any)."""
+    total = 0.0
+    for a, b, c, p1, p2 in zip(structure.interval_earlier, structure.interval_later, structure.interval_code,
+                               structure.interval_p1, structure.interval_p2):
+        total += interval_log_density(float(x[b] - x[a]), int(c), float(p1), float(p2))
     return float(total)
 
 

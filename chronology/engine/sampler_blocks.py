@@ -22,7 +22,7 @@ __all__ = ["block_logdens", "block_mh"]
 def block_logdens(mode, prm, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
                    succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
                    phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                   block_group, group_ptr, group_blocks,
+                   block_group, group_ptr, group_blocks, iv_earlier, iv_later, iv_code, iv_p1, iv_p2,
                    prior_active, L, U, R, left, step, G, hard_lo, hard_hi):
     # moves the block to parameter prm and returns its log density (with the
     # Jacobian term of the scale move), -inf if an outside constraint breaks
@@ -47,7 +47,7 @@ def block_logdens(mode, prm, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind,
             g += node_ll_cell(v, cell(x[v], left, step, G), row, static_ll, det_ptr, det_in, det_out, phi)
     if prior_active:
         g += full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k,
-            block_group, group_ptr, group_blocks, R)
+                            block_group, group_ptr, group_blocks, R, iv_earlier, iv_later, iv_code, iv_p1, iv_p2)
     if mode == 1:
         # generalised Gibbs along the scale group (Liu & Sabatti 2000): scaling k values about
         # their own fixed boundary midpoint has Jacobian c^(k-1); Haar measure du for u = log c
@@ -59,7 +59,7 @@ def block_logdens(mode, prm, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind,
 def block_mh(mode, tau, pivot, g0, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
               succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
               phase_start, phase_end, phase_n, block_first, block_last, block_k,
-              block_group, group_ptr, group_blocks,
+              block_group, group_ptr, group_blocks, iv_earlier, iv_later, iv_code, iv_p1, iv_p2,
               prior_active, L, U, R, left, step, G, hard_lo, hard_hi, rng):
     """Random-walk Metropolis on the block parameter (shift or log scale).
 
@@ -71,7 +71,7 @@ def block_mh(mode, tau, pivot, g0, s0, s1, shift_idx, xs, x, mark, stamp, kind, 
     g = block_logdens(mode, d, pivot, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
                        succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
                        phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                       block_group, group_ptr, group_blocks,
+                       block_group, group_ptr, group_blocks, iv_earlier, iv_later, iv_code, iv_p1, iv_p2,
                        prior_active, L, U, R, left, step, G, hard_lo, hard_hi)
     if g > -np.inf and np.log(uniform(rng)) < g - g0:
         return True, g - (s1 - s0 - 1) * d if mode == 1 else g

@@ -4,8 +4,8 @@ The constraint DAG is stored as CSR predecessor/successor lists, each dated
 event's fixed likelihood as one row of ``static_ll`` with its normalised CDF
 (for exact inverse-CDF draws, Buck, Litton & Smith 1992), determinations under
 the outlier model (Christen 1994) as separate rows, and the span-uniform
-boundary prior (Nicholls & Jones 2001) as index arrays from
-:func:`chronology.engine.priors.prior_structure`.
+boundary prior (Nicholls & Jones 2001) with any interval priors on durations
+and gaps as index arrays from :func:`chronology.engine.priors.prior_structure`.
 """
 
 from __future__ import annotations
@@ -60,6 +60,13 @@ class FlatModel:
     node_phase_idx: np.ndarray
     node_block_ptr: np.ndarray
     node_block_idx: np.ndarray
+    interval_earlier: np.ndarray
+    interval_later: np.ndarray
+    interval_code: np.ndarray
+    interval_p1: np.ndarray
+    interval_p2: np.ndarray
+    node_interval_ptr: np.ndarray
+    node_interval_idx: np.ndarray
     prior_active: bool
     lo: float
     hi: float
@@ -169,12 +176,17 @@ def flatten(model: Model) -> FlatModel:
         node_blocks[a].append(j)
         if b != a:
             node_blocks[b].append(j)
+    node_intervals = [[] for _ in range(n)]
+    for j, (a, b) in enumerate(zip(pstruct.interval_earlier, pstruct.interval_later)):
+        node_intervals[a].append(j)
+        node_intervals[b].append(j)
     pp, pi = _csr(preds, n)
     sp, si = _csr(succs, n)
     dp, _ = _csr(dets_per_node, n)
     shp, shi = _csr(shift_sets, len(shift_sets))
     npp, npi = _csr(node_phases, n)
     nbp, nbi = _csr(node_blocks, n)
+    nip, nii = _csr(node_intervals, n)
     nd = len(det_in)
     q = np.array(det_q, dtype=float)
     return FlatModel(
@@ -193,6 +205,9 @@ def flatten(model: Model) -> FlatModel:
         block_first=pstruct.block_first, block_last=pstruct.block_last, block_k=pstruct.block_k,
         block_group=pstruct.block_group, group_ptr=pstruct.group_ptr, group_blocks=pstruct.group_blocks,
         node_phase_ptr=npp, node_phase_idx=npi, node_block_ptr=nbp, node_block_idx=nbi,
+        interval_earlier=pstruct.interval_earlier, interval_later=pstruct.interval_later,
+        interval_code=pstruct.interval_code, interval_p1=pstruct.interval_p1, interval_p2=pstruct.interval_p2,
+        node_interval_ptr=nip, node_interval_idx=nii,
         prior_active=bool(pstruct.active), lo=float(model.range_lo), hi=float(model.range_hi),
         left=float(g.start - g.step / 2), step=float(g.step),
         earliest=earliest, latest=latest,

@@ -31,6 +31,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                  phase_start, phase_end, phase_n, shift_ptr, shift_idx,
                  block_first, block_last, block_k, block_group, group_ptr, group_blocks,
                  node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
+                 iv_earlier, iv_later, iv_code, iv_p1, iv_p2, node_iv_ptr, node_iv_idx,
                  prior_active, L, U, left, step, hard_lo, hard_hi, it0, block_every, log_tau):
     N = x.shape[0]
     G = static_ll.shape[1]
@@ -65,7 +66,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                 x0 = x[v]
                 y = local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
                                      phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                                     block_group, group_ptr, group_blocks, R)
+                                     block_group, group_ptr, group_blocks, R, iv_earlier, iv_later, iv_code,
+                                     iv_p1, iv_p2, node_iv_ptr, node_iv_idx)
                 y += np.log(uniform(rng))
                 a, b = lo, hi
                 accepted = False
@@ -73,7 +75,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                     x[v] = a + uniform(rng) * (b - a)
                     f = local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr,
                                          node_block_idx, phase_start, phase_end, phase_n,
-                                         block_first, block_last, block_k, block_group, group_ptr, group_blocks, R)
+                                         block_first, block_last, block_k, block_group, group_ptr, group_blocks, R,
+                                         iv_earlier, iv_later, iv_code, iv_p1, iv_p2, node_iv_ptr, node_iv_idx)
                     if f > y:
                         accepted = True
                         break
@@ -95,7 +98,7 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
             g = block_logdens(0, 0.0, 0.0, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr, pred_idx,
                                succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out, phi,
                                phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                               block_group, group_ptr, group_blocks,
+                               block_group, group_ptr, group_blocks, iv_earlier, iv_later, iv_code, iv_p1, iv_p2,
                                prior_active, L, U, R, left, step, G, hard_lo, hard_hi)
             for move in range(2 * BLOCK_REPEATS):
                 mode = move % 2
@@ -107,8 +110,8 @@ def sweep_block(n_iter, record_from, thin, x, phi, rng, out_x, out_phi, out_pos,
                 ok, g = block_mh(mode, t, pivot, g, s0, s1, shift_idx, xs, x, mark, stamp, kind, pred_ptr,
                                   pred_idx, succ_ptr, succ_idx, row, static_ll, det_ptr, det_in, det_out,
                                   phi, phase_start, phase_end, phase_n, block_first, block_last, block_k,
-                                  block_group, group_ptr, group_blocks,
-                                  prior_active, L, U, R, left, step, G, hard_lo, hard_hi, rng)
+                                  block_group, group_ptr, group_blocks, iv_earlier, iv_later, iv_code, iv_p1,
+                                  iv_p2, prior_active, L, U, R, left, step, G, hard_lo, hard_hi, rng)
                 if it < record_from:
                     # Robbins-Monro tuning toward acceptance 0.44, during warm-up only
                     log_tau[p, mode] += (1.0 / np.sqrt(1.0 + it)) * ((1.0 if ok else 0.0) - 0.44)
@@ -137,5 +140,7 @@ def kernel_args(f: FlatModel):
             f.phase_start, f.phase_end, f.phase_n, f.shift_ptr, f.shift_idx,
             f.block_first, f.block_last, f.block_k, f.block_group, f.group_ptr, f.group_blocks,
             f.node_phase_ptr, f.node_phase_idx, f.node_block_ptr, f.node_block_idx,
+            f.interval_earlier, f.interval_later, f.interval_code, f.interval_p1, f.interval_p2,
+            f.node_interval_ptr, f.node_interval_idx,
             bool(f.prior_active), float(f.lo), float(f.hi), float(f.left), float(f.step), f.hard_lo, f.hard_hi)
 

@@ -12,7 +12,9 @@
 * the boundary prior factors (:func:`local_log_prior` for one node,
   :func:`full_log_prior` for a whole state) are the span-uniform prior of
   Nicholls & Jones (2001), with the exact room of overlapping phases'
-  ordered beginnings (:func:`group_log_volume`), see
+  ordered beginnings (:func:`group_log_volume`), times the densities of
+  any interval priors on durations and gaps
+  (:mod:`chronology.engine.interval_priors`), see
   :mod:`chronology.engine.priors`.
 """
 
@@ -21,6 +23,7 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
+from chronology.engine.interval_priors import interval_log_density
 from chronology.engine.ordered_volume import log_ordered_volume
 from chronology.engine.sampler_random import uniform
 
@@ -149,8 +152,14 @@ def group_log_volume(g, x, block_first, block_last, group_ptr, group_blocks, R):
 @njit(cache=True, nogil=True)
 def local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_block_idx,
                      phase_start, phase_end, phase_n, block_first, block_last, block_k, block_group,
-                     group_ptr, group_blocks, R):
+                     group_ptr, group_blocks, R, iv_earlier, iv_later, iv_code, iv_p1, iv_p2,
+                     node_iv_ptr, node_iv_idx):
     total = 0.0
+    for j in range(node_iv_ptr[v], node_iv_ptr[v + 1]):
+        i = node_iv_idx[j]
+        total += interval_log_density(x[iv_later[i]] - x[iv_earlier[i]], iv_code[i], iv_p1[i], iv_p2[i])
+        if total == -np.inf:
+            return total
     for j in range(node_phase_ptr[v], node_phase_ptr[v + 1]):
         p = node_phase_idx[j]
         n = phase_n[p]
@@ -178,8 +187,12 @@ def local_log_prior(v, x, node_phase_ptr, node_phase_idx, node_block_ptr, node_b
 
 @njit(cache=True, nogil=True)
 def full_log_prior(x, phase_start, phase_end, phase_n, block_first, block_last, block_k, block_group,
-                    group_ptr, group_blocks, R):
+                    group_ptr, group_blocks, R, iv_earlier, iv_later, iv_code, iv_p1, iv_p2):
     total = 0.0
+    for i in range(iv_earlier.shape[0]):
+        total += interval_log_density(x[iv_later[i]] - x[iv_earlier[i]], iv_code[i], iv_p1[i], iv_p2[i])
+        if total == -np.inf:
+            return total
     for p in range(phase_start.shape[0]):
         n = phase_n[p]
         if n > 0:

@@ -30,7 +30,11 @@ when set, so documents without it keep their hashes.
 ``to_next`` is the arrangement of a phase with the next one: ``sequential``
 (a gap is allowed, optionally at least ``min_gap`` years), ``contiguous`` (one
 shared boundary) or ``overlapping`` (independent boundaries, starts in order);
-the last phase has none.  Equalities (``same_as``, ``bonded_with``,
+the last phase has none.  A phase may carry a prior on its ``duration`` and a
+sequential ``to_next`` one on its ``gap``, e.g. ``{"distribution": "uniform",
+"min": 50, "max": 250}``, ``{"distribution": "normal", "mean": 150, "sd": 40}``
+or ``{"distribution": "lognormal", "median": 150, "sd_log": 0.4}`` (years);
+like ``range`` they appear in the canonical form only when set.  Equalities (``same_as``, ``bonded_with``,
 ``contemporary_with``) not listed take their default: certain ``same_as`` and
 ``bonded_with`` accepted, every other equality undecided.  Uncertain ordered
 relationships not listed are accepted.  Contexts are named by id; the API
@@ -52,6 +56,7 @@ import json
 import re
 from typing import Callable, Mapping
 
+from chronology.engine.interval_priors import DISTRIBUTIONS
 from chronology.engine.legacy_names import read_content
 from chronology.engine.record_data import EQUALITY_TYPES, IDENTITY_TYPES, ORDERED_TYPES, RelationshipData
 from chronology.engine.temporal_graph import ExtraOrdering, OrderPolicy
@@ -162,9 +167,16 @@ def _normalised(doc: Mapping) -> dict:
         elif to_next is None:
             to_next = {"arrangement": "sequential", "min_gap": None}
         else:
+            gap = to_next.get("gap")
             to_next = {"arrangement": to_next["arrangement"], "min_gap": to_next.get("min_gap")}
-        out["phases"].append({"key": p["key"], "name": p["name"].strip(),
-                              "group": _stripped(p.get("group")) or None, "to_next": to_next})
+            if gap is not None:
+                to_next["gap"] = _interval_prior(gap)
+        phase = {"key": p["key"], "name": p["name"].strip(), "group": _stripped(p.get("group")) or None,
+                 "to_next": to_next}
+        if p.get("duration") is not None:
+            # only when set, so documents without one keep their hashes
+            phase["duration"] = _interval_prior(p["duration"])
+        out["phases"].append(phase)
     out["assignments"] = [{"context": a["context"], "phase": a["phase"]} for a in doc.get("assignments") or []]
     out["equalities"] = [{"relationship": e["relationship"], "decision": e["decision"],
                           "reason": _stripped(e.get("reason")) or ""} for e in doc.get("equalities") or []]
@@ -181,6 +193,11 @@ def _normalised(doc: Mapping) -> dict:
     r = doc.get("range")
     out["range"] = None if r is None else {"earliest": r["earliest"], "latest": r["latest"]}
     return out
+
+
+def _interval_prior(raw: Mapping) -> dict:
+    family = raw["distribution"]
+    return {"distribution": family, **{name: raw[name] for name in DISTRIBUTIONS[family]}}
 
 
 def _question(raw: Mapping) -> dict:

@@ -2,8 +2,10 @@
 
 A schema says what each field looks like; it cannot say that a phase named in
 an assignment is defined in ``phases``, that no context is assigned twice,
-that a relationship is not both accepted and set aside, or that an event
-reference names a phase, a context or a piece of evidence the document uses.
+that a relationship is not both accepted and set aside, that an event
+reference names a phase, a context or a piece of evidence the document uses,
+or that a duration or gap prior gives its family's parameters (and only
+those) with ``min < max`` and positive spreads.
 :func:`problems` checks those, on any document (well-formed or not: pieces
 that break the schema are left to the schema's errors and skipped here).
 """
@@ -13,6 +15,8 @@ from __future__ import annotations
 import json
 import re
 from typing import Mapping
+
+from chronology.engine.interval_priors import DISTRIBUTIONS
 
 from .content_schema import schema
 
@@ -91,7 +95,13 @@ def _phases(out: _Problems, doc: Mapping) -> set[str]:
                 out.add(f"phases[{i}].key", "duplicate-phase", f"phase {key!r} is already defined at phases[{seen[key]}]")
             else:
                 seen[key] = i
+        _interval_prior(out, f"phases[{i}].duration", p.get("duration"))
         to_next = p.get("to_next")
+        if isinstance(to_next, Mapping):
+            _interval_prior(out, f"phases[{i}].to_next.gap", to_next.get("gap"))
+            if to_next.get("gap") is not None and to_next.get("arrangement") in _ARRANGEMENTS \
+                    and to_next.get("arrangement") != "sequential":
+                out.add(f"phases[{i}].to_next.gap", "gap-needs-sequential", "only a sequential arrangement has a gap")
         if i == len(items) - 1:
             if to_next is not None:
                 out.add(f"phases[{i}].to_next", "last-phase-arrangement",
@@ -101,6 +111,33 @@ def _phases(out: _Problems, doc: Mapping) -> set[str]:
             if _number(gap) and gap >= 0 and arrangement in _ARRANGEMENTS and arrangement != "sequential":
                 out.add(f"phases[{i}].to_next.min_gap", "gap-needs-sequential", "only a sequential arrangement has a gap")
     return set(seen)
+
+
+_ALL_PARAMETERS = tuple(dict.fromkeys(name for names in DISTRIBUTIONS.values() for name in names))
+
+
+def _interval_prior(out: _Problems, path: str, value) -> None:
+    """A duration or gap prior: its family's two parameters, in range (the schema checks each is a number)."""
+    if not isinstance(value, Mapping) or value.get("distribution") not in DISTRIBUTIONS:
+        return
+    family = value["distribution"]
+    wanted = DISTRIBUTIONS[family]
+    for name in wanted:
+        if name not in value:
+            out.add(f"{path}.{name}", "required", f"a {family} prior needs {name}")
+    for name in _ALL_PARAMETERS:
+        if name in value and name not in wanted:
+            out.add(f"{path}.{name}", "parameter-not-used",
+                    f"a {family} prior takes {' and '.join(wanted)}, not {name}")
+    first, second = (value.get(n) for n in wanted)
+    if family == "uniform":
+        if _number(first) and _number(second) and not first < second:
+            out.add(f"{path}.max", "invalid-range", "max must be greater than min")
+        return
+    if family == "lognormal" and _number(first) and not first > 0:
+        out.add(f"{path}.median", "invalid-number", "the median must be greater than 0")
+    if _number(second) and not second > 0:
+        out.add(f"{path}.{wanted[1]}", "invalid-number", f"{wanted[1]} must be greater than 0")
 
 
 def _decisions(out: _Problems, doc: Mapping) -> dict[int, str]:

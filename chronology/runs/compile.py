@@ -199,6 +199,7 @@ def _build(contexts, relationships, reading: ModelSpec, evidence: EvidenceSet) -
         grid, phases=phases, order=order, evidence=inputs, range_lo=lo, range_hi=hi,
         undated=sorted({rep[c] for c in reading.undated}), questions=questions,
         context_labels=event_labels, prior=reading.prior, boundary_order=reading.boundary_order,
+        interval_priors=reading.interval_priors,
     )
     curves = []
     for name in sorted({t.curve for t in terms if t.curve is not None and t.use != "excluded"}):

@@ -3,7 +3,8 @@
 from __future__ import annotations
 
 from chronology.engine.legacy_names import read_content
-from chronology.engine.model_compiler import beginning_key
+from chronology.engine.interval_priors import DISTRIBUTIONS, describe
+from chronology.engine.model_compiler import IntervalPriorInput, beginning_key
 from chronology.engine.record_data import RelationshipData
 
 from .model_inputs import ModelRefused, ModelSpec, PhaseSpec, Usage
@@ -33,7 +34,7 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
     members: dict[str, list[int]] = {}
     for a in content.get("assignments") or ():
         members.setdefault(a["phase"], []).append(int(a["context"]))
-    phases, boundary_order, notes = [], [], []
+    phases, boundary_order, notes, intervals = [], [], [], []
     raw_phases = list(content.get("phases") or ())
     for j, p in enumerate(raw_phases):
         arrangement, gap = _arrangement(p)
@@ -45,6 +46,11 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
         if arrangement == "overlapping" and j + 1 < len(raw_phases):
             # overlapping phases keep independent boundaries; their starts are in order
             boundary_order.append((beginning_key(p["key"]), beginning_key(raw_phases[j + 1]["key"]), False))
+        for kind, prior in (("duration", p.get("duration")), ("gap", (p.get("to_next") or {}).get("gap"))):
+            if prior:
+                intervals.append(_interval_input(str(p["key"]), kind, prior))
+                notes.append(f"phase {p['key']}: {kind} prior {_prior_text(prior)} multiplies the span-uniform "
+                             "prior")
         phases.append(PhaseSpec(str(p["key"]), str(p.get("name") or p["key"]), tuple(members.get(p["key"], ())),
                                 arrangement))
     usages = [Usage(str(u["evidence"]), str(u.get("use") or "included"), float(u.get("outlier_prior") or 0.0))
@@ -63,4 +69,15 @@ def spec_from_content(content: dict, relationships: list[RelationshipData], cont
         questions=[dict(q) for q in content.get("questions") or ()],
         boundary_order=tuple(boundary_order),
         notes=tuple(notes),
+        interval_priors=tuple(intervals),
     )
+
+
+def _interval_input(phase: str, kind: str, prior: dict) -> IntervalPriorInput:
+    family = prior["distribution"]
+    return IntervalPriorInput(phase, kind, family, {n: prior.get(n) for n in DISTRIBUTIONS.get(family, ())})
+
+
+def _prior_text(prior: dict) -> str:
+    names = DISTRIBUTIONS.get(prior.get("distribution"), ())
+    return describe(prior["distribution"], *(float(prior[n]) for n in names))

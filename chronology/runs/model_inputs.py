@@ -138,6 +138,8 @@ class ModelSpec:
     grid_step: float | None = None
     prior: str = "span-uniform"
     notes: tuple = ()
+    #: ``IntervalPriorInput`` per duration or gap prior the version sets
+    interval_priors: tuple = ()
 
 
 @dataclass(frozen=True, eq=False)

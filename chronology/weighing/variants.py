@@ -135,6 +135,9 @@ def _with_arrangement(content: dict, change: dict) -> dict:
     for j, p in enumerate(phases[:-1]):
         if change["phase"] in ("*", p["key"]):
             p["to_next"] = {**(p.get("to_next") or {}), "arrangement": change["to"]}
+            if change["to"] != "sequential":
+                # only a sequential arrangement has a gap, so a gap prior goes with it
+                p["to_next"].pop("gap", None)
     return doc
 
 

@@ -113,3 +113,24 @@ def test_ranks_are_uniform_with_termini_inside_grid_cells(curve, tmp_path):
     # years that fall inside a grid cell: the model holds each exact year as a hard bound
     termini = (Terminus(2, 0, "tpq", -900.4), Terminus(0, 0, "taq", -999.7))
     _check(SiteDesign((3, 3, 3), "contiguous", termini=termini), curve, tmp_path, entropy=106)
+
+
+def test_prior_draws_with_a_duration_prior_follow_the_truncated_density():
+    # rejection from the span-uniform draws: one phase's span is U(0, R), so the kept durations follow
+    # f truncated to [0, R]; scipy.stats.kstest against truncnorm
+    from chronology.engine.calibration_check import draw_from_prior
+
+    design = SiteDesign((2,), "sequential", durations=(("normal", 300.0, 150.0),))
+    rng = np.random.default_rng(5)
+    d = [t["close:P1"] - t["beginning:P1"] for t in (draw_from_prior(design, rng) for _ in range(2000))]
+    truth = stats.truncnorm(-300.0 / 150.0, 700.0 / 150.0, loc=300.0, scale=150.0)
+    assert stats.kstest(d, truth.cdf).pvalue > 1e-3
+
+
+@pytest.mark.slow
+def test_ranks_are_uniform_for_phases_in_sequence_with_duration_and_gap_priors(curve, tmp_path):
+    # one family of each kind, and a gap prior, so every branch of the density is in the fit
+    design = SiteDesign((3, 3, 3), "sequential",
+                        durations=(("uniform", 50.0, 250.0), ("normal", 150.0, 60.0), ("lognormal", 150.0, 0.5)),
+                        gaps=(("uniform", 0.0, 100.0), None))
+    _check(design, curve, tmp_path, entropy=107)

@@ -29,3 +29,11 @@ def test_the_benchmark_reports_coverage_per_boundary_with_clopper_pearson_interv
     assert [b["name"] for b in v["per_boundary"]][:2] == ["beginning:P1", "close:P1"]
     low, high = v["boundaries_hpd_95_4"]["clopper_pearson_95"]
     assert 0.0 <= low <= v["boundaries_hpd_95_4"]["rate"] <= high <= 1.0
+
+
+def test_the_duration_prior_variant_refits_the_realistic_sites_with_the_simulated_prior():
+    out = run(sites=1, iterations=200, warmup=100, chains=2, variants=("realistic", "duration-prior"))
+    realistic, tilted = out["variants"]
+    assert tilted["variant"] == "duration-prior"
+    # the same site (paired comparison): the same number of events to cover
+    assert tilted["events_hpd_95_4"]["of"] == realistic["events_hpd_95_4"]["of"]

@@ -44,8 +44,12 @@ def one_phase_model(mus, key="p", outlier_prior=0.0):
     return ev, PhaseInput(key, tuple(f"{key}c{i}" for i in range(len(mus))))
 
 
-def one_phase_log_z(mus):
-    """log p(y) under the one-phase span-uniform prior (1/R)(R - s)^-1 s^-n (Nicholls & Jones 2001), by scipy."""
+def one_phase_log_z(mus, duration_pdf=None):
+    """log p(y) under the one-phase span-uniform prior (1/R)(R - s)^-1 s^-n (Nicholls & Jones 2001), by scipy.
+
+    With ``duration_pdf`` the prior is tilted by ``f(s)`` and normalised again: the span-uniform prior makes
+    ``s ~ U(0, R)``, so its normalising constant is ``(1/R) ∫_0^R f(s) ds`` (scipy.integrate.quad).
+    """
     parts = [cell_integral(normal_ll(m)) for m in mus]
     n = len(mus)
     # dblquad is slow at tight tolerance; the integrand is smooth, so nested Simpson on a fine grid suffices
@@ -55,6 +59,8 @@ def one_phase_log_z(mus):
     with np.errstate(divide="ignore", invalid="ignore"):
         f = np.prod([p(B) - p(A) for p in parts], axis=0) / (R * (R - S) * S ** n)
     f = np.where((S > 0) & (S < R), f, 0.0)
+    if duration_pdf is not None:
+        f = f * duration_pdf(np.clip(S, 0.0, R)) / (integrate.quad(duration_pdf, 0.0, R, limit=200)[0] / R)
     inner = integrate.simpson(f, x=a, axis=1)
     return float(np.log(integrate.simpson(inner, x=a)))
 
@@ -124,6 +130,19 @@ def test_the_marginal_likelihood_of_one_phase_of_four_events_equals_numerical_in
     m = compile_model(GRID, phases=[ph], order=[], evidence=ev, range_lo=L, range_hi=U)
     est = stepping_stone(m, entropy=12, settings=SETTINGS)
     assert close_to(est, one_phase_log_z(mus))
+
+
+def test_a_duration_prior_keeps_the_marginal_likelihood_equal_to_numerical_integration():
+    # the duration factor is prior, untempered on the ladder; the exact p(y) integrates it, renormalised, by scipy
+    from chronology.engine.model_compiler import IntervalPriorInput
+
+    ev, ph = one_phase_model(THREE)
+    prior = IntervalPriorInput(ph.key, "duration", "normal", {"mean": 120.0, "sd": 30.0})
+    m = compile_model(GRID, phases=[ph], order=[], evidence=ev, range_lo=L, range_hi=U, interval_priors=[prior])
+    est = stepping_stone(m, entropy=15, settings=SETTINGS)
+    exact = one_phase_log_z(THREE, duration_pdf=stats.norm(120.0, 30.0).pdf)
+    assert close_to(est, exact)
+    assert abs(exact - one_phase_log_z(THREE)) > 0.5  # the factor matters: the plain integral would fail
 
 
 def test_two_unlinked_phases_have_the_product_of_their_marginal_likelihoods():

@@ -113,5 +113,6 @@ def test_the_kernel_evaluates_the_same_prior_as_the_reference_function():
     f = flatten(model)
     x = np.array([10.0, 400.0, 50.0, 300.0, 200.0, 990.0] + [250.0] * (len(model.event_keys) - 6))
     kernel = full_log_prior(x, f.phase_start, f.phase_end, f.phase_n, f.block_first, f.block_last, f.block_k,
-                            f.block_group, f.group_ptr, f.group_blocks, R)
+                            f.block_group, f.group_ptr, f.group_blocks, R, f.interval_earlier, f.interval_later,
+                            f.interval_code, f.interval_p1, f.interval_p2)
     assert np.isfinite(kernel) and kernel == pytest.approx(log_prior(prior_structure(model), x), rel=1e-12)

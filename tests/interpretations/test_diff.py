@@ -92,6 +92,17 @@ def test_evidence_use_and_questions_changes():
                                  "removed": []}
 
 
+def test_a_duration_prior_set_on_a_phase_is_a_change_with_its_reading():
+    phases = [dict(BASE["phases"][0]), dict(BASE["phases"][1]),
+              {**BASE["phases"][2], "duration": {"distribution": "uniform", "min": 50, "max": 250}}]
+    old, new = _pair(phases=phases)
+    diff = diff_interpretations(old, new)
+    assert diff["phases"]["duration_prior_changed"] == [
+        {"key": "p3", "from": None, "to": {"distribution": "uniform", "min": 50, "max": 250}}]
+    assert "Phase Settlement (p3) duration prior: none → uniform 50-250 years" in diff_text(diff, phase_names={
+        "p3": "Settlement"})
+
+
 def test_diff_runs_one_way_swapping_sides_swaps_the_answer():
     old, new = _pair(assignments=[{"context": 1, "phase": "p2"}])
     forward, backward = diff_interpretations(old, new), diff_interpretations(new, old)

@@ -42,8 +42,10 @@ class Command(BaseCommand):
         parser.add_argument("--contexts", type=int, action="append", help="Record size(s), where the suite takes one.")
         parser.add_argument("--posts", type=int, help="Relationships to post (record suite).")
         parser.add_argument("--quick", action="store_true", help="Smaller cases, for a smoke run.")
+        parser.add_argument("--variant", action="append", help="Only this variant (coverage suite); repeatable.")
+        parser.add_argument("--sites", type=int, help="Simulated sites per variant (coverage suite).")
 
-    def handle(self, *args, suite, json: bool, contexts, posts, quick, **options):
+    def handle(self, *args, suite, json: bool, contexts, posts, quick, variant=None, sites=None, **options):
         try:
             module = importlib.import_module(SUITES[suite])
         except ImportError as exc:
@@ -60,6 +62,15 @@ class Command(BaseCommand):
             kwargs.update(contexts=contexts[0], relationships=contexts[0] * 5 // 4)
         elif contexts and suite == "alternatives":
             kwargs["contexts"] = contexts[0]
+        if suite == "coverage":
+            if variant:
+                unknown = sorted(set(variant) - set(module.VARIANTS))
+                if unknown:
+                    raise CommandError(f"unknown coverage variant(s) {', '.join(unknown)}; "
+                                       f"choose from {', '.join(module.VARIANTS)}")
+                kwargs["variants"] = tuple(variant)
+            if sites:
+                kwargs["sites"] = sites
         if quick:
             kwargs.update(getattr(module, "QUICK", {}))
         result = module.run(**kwargs)
