@@ -23,7 +23,7 @@ whole ladder with its own seeds; the estimate is the mean of the repeats'
 ``log Z`` and its standard error their standard deviation over ``sqrt(R)``.
 
 Every chain is the service's own sampler (:func:`chronology.engine.sampler.run_chain`)
-on the tempered flat model.  Near the prior (``beta < near_prior``) the
+on the tempered flat model.  Near the prior (``beta < whole_site_below``) the
 site's place and total span mix slowly under the sampler's local moves, and
 most of the estimate's error came from the first two stones; there every
 kept draw also gets whole-site shift and scale moves
@@ -85,9 +85,10 @@ class SteppingStoneSettings:
     ``prior_thin_factor`` for stones sampled at ``beta < near_prior``, where
     the chain mixes slowest and the ratios vary most), ``whole_site_rounds``
     rounds of whole-site shift and scale moves
-    (:mod:`chronology.engine.whole_site_moves`) applied to every draw of
-    those stones (0 for none), and ``repeats`` independent runs of the whole
-    ladder (at least 2, for the Monte Carlo error).
+    (:mod:`chronology.engine.whole_site_moves`) applied to every draw of the
+    stones sampled at ``beta < whole_site_below`` (0 rounds for none), and
+    ``repeats`` independent runs of the whole ladder (at least 2, for the
+    Monte Carlo error).
     """
 
     stones: int = 24
@@ -99,6 +100,7 @@ class SteppingStoneSettings:
     prior_thin_factor: int = 1
     near_prior: float = 0.01
     whole_site_rounds: int = 4
+    whole_site_below: float = 0.05
 
     def __post_init__(self):
         if (self.stones < 1 or self.draws < 2 or self.thin < 1 or self.warmup < 0 or self.repeats < 2
@@ -175,14 +177,13 @@ def _one_ladder(flat: FlatModel, betas: np.ndarray, seed: np.random.SeedSequence
     x, phi = None, None
     for k in range(len(betas) - 1, 0, -1):
         # near the prior the chain wanders slowly and the ratio varies most: thin more there
-        near = betas[k - 1] < s.near_prior
-        thin = s.thin * (s.prior_thin_factor if near else 1)
+        thin = s.thin * (s.prior_thin_factor if betas[k - 1] < s.near_prior else 1)
         chain = run_chain(tempered(flat, betas[k - 1]), seeds[k - 1], iterations=s.draws * thin,
                           warmup=s.warmup * (4 if x is None else 1), thin=thin, cancel=cancel,
                           initial=x, initial_outliers=phi)
         ll = draw_log_likelihoods(flat, chain)
         draws = chain.draws
-        if near and s.whole_site_rounds:
+        if betas[k - 1] < s.whole_site_below and s.whole_site_rounds:
             # the site's place and total span are what wander slowly there; the whole-site moves keep
             # p_beta invariant, so the moved draws have the same distribution and are less correlated
             moved = whole_site_moves(flat, float(betas[k - 1]), draws, chain.outliers,
