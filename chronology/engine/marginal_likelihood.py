@@ -23,7 +23,12 @@ whole ladder with its own seeds; the estimate is the mean of the repeats'
 ``log Z`` and its standard error their standard deviation over ``sqrt(R)``.
 
 Every chain is the service's own sampler (:func:`chronology.engine.sampler.run_chain`)
-on the tempered flat model.
+on the tempered flat model.  Near the prior (``beta < whole_site_below``) the
+site's place and total span mix slowly under the sampler's local moves, and
+most of the estimate's error came from the first two stones; there every
+kept draw also gets whole-site shift and scale moves
+(:mod:`chronology.engine.whole_site_moves`), which keep the power posterior
+invariant.
 
 References
 ----------
@@ -46,6 +51,7 @@ from chronology.engine.model import Model
 from chronology.engine.power_posterior import draw_log_likelihoods, tempered
 from chronology.engine.sampler import run_chain
 from chronology.engine.sampler_flat import FlatModel, flatten
+from chronology.engine.whole_site_moves import whole_site_moves
 
 __all__ = [
     "MARGINAL_LIKELIHOOD_METHOD",
@@ -59,8 +65,8 @@ __all__ = [
 
 MARGINAL_LIKELIHOOD_METHOD = (
     "stepping-stone sampling (Xie, Lewis, Fan, Kuo & Chen 2011) over power posteriors on a Beta(0.3, 1) "
-    "ladder, each sampled with the service's Metropolis-within-Gibbs sampler; Monte Carlo error from "
-    "independent repeats"
+    "ladder, each sampled with the service's Metropolis-within-Gibbs sampler (with whole-site shift and scale "
+    "moves near the prior); Monte Carlo error from independent repeats"
 )
 
 
@@ -77,9 +83,12 @@ class SteppingStoneSettings:
     ``stones`` ratios (K), ``alpha`` of the Beta(alpha, 1) ladder, per stone
     ``warmup`` sweeps then ``draws`` kept draws ``thin`` sweeps apart (times
     ``prior_thin_factor`` for stones sampled at ``beta < near_prior``, where
-    the chain mixes slowest and the ratios vary most), and ``repeats``
-    independent runs of the whole ladder (at least 2, for the Monte Carlo
-    error).
+    the chain mixes slowest and the ratios vary most), ``whole_site_rounds``
+    rounds of whole-site shift and scale moves
+    (:mod:`chronology.engine.whole_site_moves`) applied to every draw of the
+    stones sampled at ``beta < whole_site_below`` (0 rounds for none), and
+    ``repeats`` independent runs of the whole ladder (at least 2, for the
+    Monte Carlo error).
     """
 
     stones: int = 24
@@ -90,11 +99,14 @@ class SteppingStoneSettings:
     repeats: int = 4
     prior_thin_factor: int = 1
     near_prior: float = 0.01
+    whole_site_rounds: int = 4
+    whole_site_below: float = 0.05
 
     def __post_init__(self):
         if (self.stones < 1 or self.draws < 2 or self.thin < 1 or self.warmup < 0 or self.repeats < 2
-                or self.prior_thin_factor < 1):
-            raise ValueError("stones >= 1, draws >= 2, thin >= 1, warmup >= 0 and repeats >= 2 are required")
+                or self.prior_thin_factor < 1 or self.whole_site_rounds < 0):
+            raise ValueError("stones >= 1, draws >= 2, thin >= 1, warmup >= 0, repeats >= 2 and "
+                             "whole_site_rounds >= 0 are required")
         if not self.alpha > 0:
             raise ValueError("alpha must be positive")
 
@@ -160,6 +172,7 @@ def _one_ladder(flat: FlatModel, betas: np.ndarray, seed: np.random.SeedSequence
     # from the posterior toward the prior, as Xie et al. (2011) do: each stone's chain starts from the last
     # draw of the stone above it, so no chain starts from a jammed dispersed state at a low temperature
     seeds = seed.spawn(len(betas) - 1)
+    move_seeds = seed.spawn(len(betas) - 1)  # the next children: the chains' seeds stay as they were
     out = np.empty(len(betas) - 1)
     x, phi = None, None
     for k in range(len(betas) - 1, 0, -1):
@@ -169,8 +182,16 @@ def _one_ladder(flat: FlatModel, betas: np.ndarray, seed: np.random.SeedSequence
                           warmup=s.warmup * (4 if x is None else 1), thin=thin, cancel=cancel,
                           initial=x, initial_outliers=phi)
         ll = draw_log_likelihoods(flat, chain)
+        draws = chain.draws
+        if betas[k - 1] < s.whole_site_below and s.whole_site_rounds:
+            # the site's place and total span are what wander slowly there; the whole-site moves keep
+            # p_beta invariant, so the moved draws have the same distribution and are less correlated
+            moved = whole_site_moves(flat, float(betas[k - 1]), draws, chain.outliers,
+                                     np.random.default_rng(move_seeds[k - 1]), rounds=s.whole_site_rounds,
+                                     log_lik=ll)
+            draws, ll = moved.draws, moved.log_likelihoods
         out[k - 1] = log_mean_exp((betas[k] - betas[k - 1]) * ll)
-        x, phi = chain.draws[-1], chain.outliers[-1]
+        x, phi = draws[-1], chain.outliers[-1]
         done()
     return out
 

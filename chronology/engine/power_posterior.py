@@ -35,7 +35,7 @@ import numpy as np
 
 from chronology.engine.sampler_flat import ChainResult, FlatModel
 
-__all__ = ["tempered", "draw_log_likelihoods"]
+__all__ = ["tempered", "draw_log_likelihoods", "log_likelihoods"]
 
 
 def _scale(arr: np.ndarray, beta: float) -> np.ndarray:
@@ -112,7 +112,16 @@ def draw_log_likelihoods(flat: FlatModel, result: ChainResult) -> np.ndarray:
         One value per draw; ``-inf`` where a draw lies in a cell of zero
         likelihood (possible only for ``beta = 0``).
     """
-    x = result.draws
+    return log_likelihoods(flat, result.draws, result.outliers)
+
+
+def log_likelihoods(flat: FlatModel, draws: np.ndarray, outliers: np.ndarray) -> np.ndarray:
+    """``log L(y | theta, phi)`` (untempered) at each row of ``draws`` with the outlier indicators ``outliers``.
+
+    The same sum as :func:`draw_log_likelihoods`, for states that are not a
+    chain's kept draws (e.g. moved ones); ``-inf`` in cells of zero likelihood.
+    """
+    x = np.asarray(draws, dtype=float)
     G = flat.static_ll.shape[1]
     cells = np.clip(np.floor((x - flat.left) / flat.step).astype(np.int64), 0, G - 1)
     total = np.zeros(x.shape[0])
@@ -122,6 +131,6 @@ def draw_log_likelihoods(flat: FlatModel, result: ChainResult) -> np.ndarray:
             total += flat.static_ll[flat.row[v], cells[:, v]]
         for d in range(flat.det_node.shape[0]):
             k = cells[:, flat.det_node[d]]
-            out = result.outliers[:, d].astype(bool)
+            out = np.asarray(outliers)[:, d].astype(bool)
             total += np.where(out, flat.det_out[d, k], flat.det_in[d, k])
     return np.where(np.isnan(total), -np.inf, total)
