@@ -84,7 +84,8 @@ def _log_prior(flat: FlatModel, x: np.ndarray) -> float:
         return 0.0
     return float(full_log_prior(x, flat.phase_start, flat.phase_end, flat.phase_n, flat.block_first,
                                 flat.block_last, flat.block_k, flat.block_group, flat.group_ptr,
-                                flat.group_blocks, flat.hi - flat.lo))
+                                flat.group_blocks, flat.hi - flat.lo, flat.interval_earlier, flat.interval_later,
+                                flat.interval_code, flat.interval_p1, flat.interval_p2))
 
 
 def whole_site_moves(flat: FlatModel, beta: float, draws: np.ndarray, outliers: np.ndarray,
